@@ -1,0 +1,221 @@
+/*
+ * bathychron.h - the one public header of libbathychron.
+ *
+ * Fossil occurrences through time and depth: ingest, resolve ages against
+ * the International Chronostratigraphic Chart, bin, and compute
+ * occurrence-shift tables with honest uncertainty.
+ *
+ * Conventions (stated once, restated per function where it matters):
+ *  - Fallible calls return int: 0 (BC_OK) on success, a negative BC_E*
+ *    code on failure. Output parameters come first.
+ *  - Every fallible call takes a `bc_err *err` last (may be NULL); on
+ *    failure it is filled with the code and one line of text in the form
+ *    "FILE:LINE: field: what is wrong" where a place is known.
+ *  - Ownership: an object returned through `**out` belongs to the caller
+ *    and is freed with the matching bc_*_free(); a `const` pointer returned
+ *    by an accessor is borrowed and lives as long as its parent object.
+ *    Every bc_*_free() accepts NULL.
+ */
+#ifndef BATHYCHRON_H
+#define BATHYCHRON_H
+
+#include <stddef.h>
+#include <stdint.h>
+#include <stdio.h>
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+#define BC_VERSION "0.1.0"
+
+/* ------------------------------------------------------------------ */
+/* Errors                                                              */
+/* ------------------------------------------------------------------ */
+
+enum {
+	BC_OK = 0,
+	BC_ERROR = -1,     /* anything not named below */
+	BC_ENOTFOUND = -2, /* a file, chart, interval or record does not exist */
+	BC_EINVALID = -3,  /* bad input data */
+	BC_EDB = -4,       /* SQLite reported an error */
+	BC_EIO = -5,       /* reading or writing a file failed */
+	BC_ENOMEM = -6,    /* out of memory */
+	BC_EBUSY = -7,     /* the database is locked by another process */
+	BC_EEXISTS = -8,   /* refusing to overwrite, or a duplicate import */
+	BC_EFOREIGN = -9,  /* a file that is not ours, or of a newer schema */
+	BC_EUSAGE = -10    /* a caller passed options that do not fit */
+};
+
+/** One error: its code and a one-line message. Zero-initialise before use. */
+typedef struct bc_err {
+	int code;
+	char msg[1024];
+} bc_err;
+
+/** Fills `err` (if not NULL) with `code` and a printf-style message; returns `code`. */
+int bc_err_set(bc_err *err, int code, const char *fmt, ...)
+#if defined(__GNUC__)
+	__attribute__((format(printf, 3, 4)))
+#endif
+	;
+
+/** A short English name for an error code ("invalid input", ...). Static storage. */
+const char *bc_strerror(int code);
+
+/** Output formats shared by every table the tool writes. */
+typedef enum bc_format {
+	BC_FORMAT_CSV = 0,
+	BC_FORMAT_TSV,
+	BC_FORMAT_MD,
+	BC_FORMAT_LATEX,
+	BC_FORMAT_JSON
+} bc_format;
+
+/** Parses "csv", "tsv", "md", "latex", "json". Returns 0 or BC_EUSAGE. */
+int bc_format_parse(bc_format *out, const char *name);
+
+/* ------------------------------------------------------------------ */
+/* Database (db.c)                                                     */
+/* ------------------------------------------------------------------ */
+
+typedef struct bc_db bc_db;
+
+/** Current schema version of the project's own metadata (not user_version). */
+int bc_db_schema_version(void);
+
+/**
+ * Creates a new database at `path`: applies every migration in schema/,
+ * makes it a valid OGC GeoPackage 1.3, and loads the shipped default chart
+ * and vocabularies. Never overwrites: an existing path gives BC_EEXISTS.
+ * The handle is the caller's; close it with bc_db_close().
+ */
+int bc_db_create(bc_db **out, const char *path, bc_err *err);
+
+/**
+ * Opens an existing bathychron database, migrating an older schema
+ * forward in one transaction. A missing file gives BC_ENOTFOUND; a file
+ * that is not ours or is of a newer schema gives BC_EFOREIGN.
+ */
+int bc_db_open(bc_db **out, const char *path, bc_err *err);
+
+/** Closes the handle. NULL-safe. */
+void bc_db_close(bc_db *db);
+
+/** The path the handle was opened with. Borrowed. */
+const char *bc_db_path(const bc_db *db);
+
+/* ------------------------------------------------------------------ */
+/* Charts (chart.c, skos.c, timescale.c)                               */
+/* ------------------------------------------------------------------ */
+
+/** Chronostratigraphic ranks, oldest-level first. */
+typedef enum bc_rank {
+	BC_RANK_UNKNOWN = 0,
+	BC_RANK_SUPEREON,
+	BC_RANK_EON,
+	BC_RANK_ERA,
+	BC_RANK_PERIOD,
+	BC_RANK_SUBPERIOD,
+	BC_RANK_EPOCH,
+	BC_RANK_AGE /* stage */
+} bc_rank;
+
+/** "eon", "era", "period", "subperiod", "epoch", "age" (stage), ... Static storage. */
+const char *bc_rank_name(bc_rank rank);
+/** Parses the names above and the chronostratigraphic synonyms (eonothem, erathem, system, subsystem, series, stage). */
+bc_rank bc_rank_parse(const char *name);
+
+/** One interval of a chart. Strings are borrowed from the chart. */
+typedef struct bc_interval {
+	const char *name;      /* English preferred label, e.g. "Maastrichtian" */
+	const char *iri;       /* identifier in the source release, may be "" */
+	bc_rank rank;
+	int parent;            /* index of the broader interval, -1 for none */
+	double older_ma;       /* older (lower) bound, Ma */
+	double older_unc;      /* its uncertainty, Myr; NaN if not stated */
+	double younger_ma;     /* younger (upper) bound, Ma */
+	double younger_unc;
+	int has_colour;
+	unsigned colour;       /* 0xRRGGBB when has_colour */
+	const char *colour_source; /* where the colour came from, may be "" */
+} bc_interval;
+
+/** A label of an interval in one language (every skos:prefLabel). */
+typedef struct bc_label {
+	int interval;          /* index into the chart */
+	const char *text;
+	const char *lang;      /* BCP 47 tag, "" if none */
+} bc_label;
+
+typedef struct bc_chart bc_chart;
+
+/** An empty chart named `name`, to be filled with bc_chart_add_*. */
+int bc_chart_new(bc_chart **out, const char *name, bc_err *err);
+void bc_chart_free(bc_chart *chart);
+
+/** Appends an interval (strings are copied); returns its index or a negative code. */
+int bc_chart_add_interval(bc_chart *chart, const bc_interval *iv, bc_err *err);
+/** Appends a label for interval index `interval` (strings copied). */
+int bc_chart_add_label(bc_chart *chart, int interval, const char *text, const char *lang, bc_err *err);
+/** Sets free-text provenance of the chart (source, licence, citation). Copied. */
+int bc_chart_set_source(bc_chart *chart, const char *source, const char *licence, bc_err *err);
+
+const char *bc_chart_name(const bc_chart *chart);
+const char *bc_chart_source(const bc_chart *chart);
+const char *bc_chart_licence(const bc_chart *chart);
+size_t bc_chart_count(const bc_chart *chart);
+const bc_interval *bc_chart_interval(const bc_chart *chart, size_t i);
+size_t bc_chart_label_count(const bc_chart *chart);
+const bc_label *bc_chart_label(const bc_chart *chart, size_t i);
+/** Index of the interval whose English name equals `name` exactly, or -1. */
+int bc_chart_find(const bc_chart *chart, const char *name);
+
+/* == chart loading and storage: section owned by skos.c/timescale.c == */
+
+/* == end of chart loading section == */
+
+/* ------------------------------------------------------------------ */
+/* Age resolution (age.c, text.c)                                      */
+/* ------------------------------------------------------------------ */
+
+/* == age resolution section == */
+
+/* == end of age resolution section == */
+
+/* ------------------------------------------------------------------ */
+/* Ingest (csv.c, colmap.c, depth.c, bib.c, import.c, check.c, export.c) */
+/* ------------------------------------------------------------------ */
+
+/* == ingest section == */
+
+/* == end of ingest section == */
+
+/* ------------------------------------------------------------------ */
+/* Coordinates and localities (geo.c)                                  */
+/* ------------------------------------------------------------------ */
+
+/* == geo section == */
+
+/* == end of geo section == */
+
+/* ------------------------------------------------------------------ */
+/* Shift tables (shift.c, stats.c, output.c)                           */
+/* ------------------------------------------------------------------ */
+
+/* == shift section == */
+
+/* == end of shift section == */
+
+/* ------------------------------------------------------------------ */
+/* Figures (plot.c)                                                    */
+/* ------------------------------------------------------------------ */
+
+/* == plot section == */
+
+/* == end of plot section == */
+
+#ifdef __cplusplus
+}
+#endif
+#endif /* BATHYCHRON_H */
