@@ -173,6 +173,32 @@ int bc_chart_find(const bc_chart *chart, const char *name);
 
 /* == chart loading and storage: section owned by skos.c/timescale.c == */
 
+/** Name of the chart a new database makes its default ("ics-2024-12"). */
+#define BC_DEFAULT_CHART "ics-2024-12"
+
+/**
+ * Reads a chart from SKOS RDF/XML (the ICS releases: bounds inline as in
+ * 2024-12, or on separate boundary resources as in 2020). The reader never
+ * touches the network, loads no DTD and expands no external entity; a
+ * hostile file fails with BC_EINVALID. `name` names the chart.
+ */
+int bc_chart_load_skos(bc_chart **out, const char *path, const char *name, bc_err *err);
+
+/** Reads a chart in the project's own TSV form (see reference/README.md). */
+int bc_chart_load_tsv(bc_chart **out, const char *path, const char *name, bc_err *err);
+
+/** Writes a chart in the project's own TSV form. */
+int bc_chart_write_tsv(const bc_chart *chart, FILE *out, bc_err *err);
+
+/** A chart shipped with the library ("ics-2024-12", "ics-2020"); NULL = default. */
+int bc_chart_builtin(bc_chart **out, const char *name, bc_err *err);
+
+/** Stores a chart in the database under its name; `make_default` makes it the default. */
+int bc_timescale_store(bc_db *db, const bc_chart *chart, const char *loaded_from, int make_default, bc_err *err);
+
+/** Reads a stored chart; `name` NULL means the database's default. */
+int bc_timescale_get(bc_chart **out, bc_db *db, const char *name, bc_err *err);
+
 /* == end of chart loading section == */
 
 /* ------------------------------------------------------------------ */
@@ -180,6 +206,55 @@ int bc_chart_find(const bc_chart *chart, const char *name);
 /* ------------------------------------------------------------------ */
 
 /* == age resolution section == */
+
+/** How an age text was resolved (design.md fixes these names). */
+typedef enum bc_age_status {
+	BC_AGE_EXACT = 0,  /* a chart interval name or one of its labels */
+	BC_AGE_ALIAS,      /* an obsolete/regional/informal name from the alias table */
+	BC_AGE_RANGE,      /* two names: "Campanian-Maastrichtian" */
+	BC_AGE_QUALIFIED,  /* "late Campanian": part of an interval by a stated convention */
+	BC_AGE_NUMERIC,    /* numbers: "72 Ma", "83.6-72.1 Ma" */
+	BC_AGE_UNKNOWN     /* not resolved; nearest chart names in note */
+} bc_age_status;
+
+/** "exact", "alias", "range", "qualified", "numeric", "unknown". Static storage. */
+const char *bc_age_status_name(bc_age_status status);
+
+/** One resolved age. older_ma > younger_ma (or equal for a point age). */
+typedef struct bc_age {
+	bc_age_status status;
+	char from[128];        /* chart interval name of the older end ("" for numeric) */
+	char to[128];          /* chart interval name of the younger end */
+	double older_ma;
+	double younger_ma;
+	int uncertain;         /* a "?", "cf.", "probably" mark was present */
+	char note[512];        /* conventions used, uncertainty flags, suggestions */
+} bc_age;
+
+typedef struct bc_resolver bc_resolver;
+
+/**
+ * A resolver over `chart` (borrowed: it must outlive the resolver) with the
+ * shipped alias table (reference/age-aliases.tsv) loaded.
+ */
+int bc_resolver_new(bc_resolver **out, const bc_chart *chart, bc_err *err);
+/** Adds or overrides aliases from a TSV file of the same form as the shipped one. */
+int bc_resolver_load_aliases(bc_resolver *r, const char *path, bc_err *err);
+void bc_resolver_free(bc_resolver *r);
+/** The chart in use. Borrowed. */
+const bc_chart *bc_resolver_chart(const bc_resolver *r);
+
+/**
+ * Resolves one text. Returns BC_OK whenever `out` was filled, including
+ * status BC_AGE_UNKNOWN; a negative code only for internal failures.
+ */
+int bc_age_resolve(bc_resolver *r, const char *text, bc_age *out);
+/**
+ * Resolves the two-column form (earliest..., latest...); either may be
+ * empty or NULL. The result spans the older bound of the earliest and the
+ * younger bound of the latest.
+ */
+int bc_age_resolve_pair(bc_resolver *r, const char *earliest, const char *latest, bc_age *out);
 
 /* == end of age resolution section == */
 
