@@ -84,7 +84,8 @@ static const struct {
 	{"30' N 0 E", "minutes without degrees"},
 	{"° 50 N 0 E", "a degree mark with no number before it"},
 	{"50.5 - 0.5", "a sign must be followed by a number"},
-	{"50 30' 15° N 0 E", "out of order"},
+	{"50 30' 15° N 0 E", "found more"},
+	{"50° 30\" 15 N, 0 E", "out of order"},
 	{"N", "no numbers"},
 };
 
