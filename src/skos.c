@@ -632,8 +632,9 @@ static int ld_number(loader *L, const triple *t, const char *field, double *out)
 	return BC_OK;
 }
 
-/* Scale of a temporal reference system to Ma: 1 for Ma, 1e-6 for years
- * before present; 0 when unknown. No TRS stated is read as Ma. The 50-year
+/* Divisor from a temporal reference system to Ma: 1 for Ma, 1e6 for years
+ * before present, 1e3 for ka; 0 when unknown (dividing, not multiplying by
+ * 1e-6, gives 11700 a -> 0.0117 exactly as written). No TRS stated is read as Ma. The 50-year
  * offset between BP (1950) and the Ma origin (2000) is below the charts'
  * precision. */
 static double trs_scale(const char *trs)
@@ -643,7 +644,7 @@ static double trs_scale(const char *trs)
 	if (strcmp(trs, NS_TRS "ma") == 0)
 		return 1;
 	if (strcmp(trs, NS_TRS "bp") == 0 || strcmp(trs, NS_TRS "ka") == 0)
-		return strcmp(trs, NS_TRS "bp") == 0 ? 1e-6 : 1e-3;
+		return strcmp(trs, NS_TRS "bp") == 0 ? 1e6 : 1e3;
 	return 0;
 }
 
@@ -658,7 +659,7 @@ static int ld_uncertainty(loader *L, const char *x, double *unc)
 	int rc = ld_number(L, d, "time:numericDuration", unc);
 	const triple *unit = g_first(&L->g, u->o, NS_TIME "unitType");
 	if (!rc && unit && strlen(unit->o) >= 2 && strcmp(unit->o + strlen(unit->o) - 2, "/a") == 0)
-		*unc *= 1e-6;
+		*unc /= 1e6;
 	return rc;
 }
 
@@ -714,7 +715,7 @@ static int ld_bound(loader *L, const cand *c, const char *pred, const char *fiel
 	int rc = ld_number(L, best, "time:numericPosition", value);
 	if (rc)
 		return rc;
-	*value *= best_scale;
+	*value /= best_scale;
 	for (int k = g_next(&L->g, x, NS_TIME "inTemporalPosition", -1); k >= 0 && isnan(*unc);
 	     k = g_next(&L->g, x, NS_TIME "inTemporalPosition", k))
 		if ((rc = ld_uncertainty(L, L->g.t[k].o, unc)))
