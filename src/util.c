@@ -40,7 +40,25 @@ int bc__err_vset(bc_err *err, int code, const char *fmt, va_list ap)
 {
 	if (err) {
 		err->code = code;
-		vsnprintf(err->msg, sizeof err->msg, fmt, ap);
+		int n = vsnprintf(err->msg, sizeof err->msg, fmt, ap);
+		/* One line, always: text quoted from a file (a cell with a line
+		 * break, a library message, a terminal escape) must not break
+		 * the message or reach a terminal raw. */
+		for (unsigned char *p = (unsigned char *)err->msg; *p; p++)
+			if (*p < 0x20 || *p == 0x7f)
+				*p = (*p == '\n' || *p == '\r' || *p == '\t') ? ' ' : '?';
+		/* A message cut short must not end inside a UTF-8 sequence. */
+		if (n >= (int)sizeof err->msg) {
+			size_t len = strlen(err->msg), k = len;
+			while (k > 0 && ((unsigned char)err->msg[k - 1] & 0xC0) == 0x80)
+				k--;
+			if (k > 0 && (unsigned char)err->msg[k - 1] >= 0xC0) {
+				unsigned char lead = (unsigned char)err->msg[k - 1];
+				size_t want = lead >= 0xF0 ? 4 : lead >= 0xE0 ? 3 : 2;
+				if (len - (k - 1) < want)
+					err->msg[k - 1] = '\0';
+			}
+		}
 	}
 	return code;
 }
