@@ -4,7 +4,8 @@
 #   make test    every test, plus the unit suite under ASan/UBSan
 #   make demo    the main job on the invented demo data set
 #   make bench   benchmarks (speed and memory; never part of make test)
-#   make fuzz    libFuzzer targets for a set time each
+#   make fuzz    libFuzzer targets for a set time each (FUZZ_SECONDS=60)
+#   make fuzz-build  only build them (clang, libFuzzer + ASan/UBSan) in build-fuzz/
 #   make install / uninstall  PREFIX=/usr/local DESTDIR=
 
 PREFIX ?= /usr/local
@@ -16,7 +17,7 @@ PKGS := sqlite3 proj libxml-2.0 cairo libutf8proc libzip nettle
 # Debian package for each pkg-config name (same order), plus tools the tests use.
 DEB_DEV := libsqlite3-dev libproj-dev libxml2-dev libcairo2-dev libutf8proc-dev libzip-dev nettle-dev libcsv-dev
 DEB_TOOLS := pkg-config gcc make proj-data sqlite3 gdal-bin python3 python3-scipy python3-statsmodels \
-	python3-pandas python3-lxml poppler-utils librsvg2-bin geographiclib-tools proj-bin zip unzip fonts-dejavu-core clang
+	python3-pandas python3-lxml poppler-utils librsvg2-bin geographiclib-tools proj-bin zip unzip fonts-dejavu-core clang libclang-rt-14-dev valgrind
 
 WARN := -Wall -Wextra -Wshadow -Wundef -Wwrite-strings -Wstrict-prototypes \
 	-Wmissing-prototypes -Wformat=2 -Wno-format-nonliteral
@@ -38,7 +39,7 @@ CLI_OBJ := $(CLI_SRC:src/cli/%.c=$(B)/cli/%.o)
 UNIT_SRC := $(sort $(wildcard tests/unit/*.c))
 UNIT_OBJ := $(UNIT_SRC:tests/unit/%.c=$(B)/unit/%.o)
 
-.PHONY: all deps test test-unit test-san demo bench fuzz install uninstall clean check-header
+.PHONY: all deps test test-unit test-san demo bench fuzz fuzz-build fuzz-targets install uninstall clean check-header
 all: $(B)/libbathychron.a $(B)/libbathychron.so $(B)/bathychron
 
 deps:
@@ -97,6 +98,7 @@ test: deps
 	@$(MAKE) --no-print-directory all $(B)/unit-tests check-header
 	@$(MAKE) --no-print-directory B=build-san OPT="-O1 -g -fsanitize=address,undefined -fno-omit-frame-pointer -fno-sanitize-recover=undefined" \
 		CFLAGS_ALL_LD="-fsanitize=address,undefined" build-san/unit-tests build-san/bathychron
+	@$(MAKE) --no-print-directory fuzz-targets
 	@sh tests/run.sh
 
 test-unit: all $(B)/unit-tests
@@ -108,7 +110,25 @@ demo: deps all
 bench: deps all
 	@sh tests/bench/run.sh
 
-fuzz: deps
+# Fuzzing: every tests/fuzz/fuzz_<name>.c is a libFuzzer target built with
+# clang against a library compiled with coverage and ASan/UBSan; its seed
+# corpus is tests/fuzz/<name>/.
+FUZZ_SRC := $(sort $(wildcard tests/fuzz/fuzz_*.c))
+FUZZ_CC ?= clang
+FUZZ_OPT := -O1 -g -fsanitize=fuzzer-no-link,address,undefined -fno-sanitize-recover=undefined -fno-omit-frame-pointer
+
+$(B)/fuzz/%: tests/fuzz/%.c tests/fuzz/fuzz.h $(B)/libbathychron.a
+	@mkdir -p $(dir $@)
+	@echo '  FUZZ $<'
+	@$(CC) $(CFLAGS_ALL) -fsanitize=fuzzer -o $@ $< $(B)/libbathychron.a $(PKG_LIBS) $(LDFLAGS) $(CFLAGS_ALL_LD)
+
+fuzz-targets:
+	@$(MAKE) --no-print-directory B=build-fuzz CC=$(FUZZ_CC) OPT="$(FUZZ_OPT)" \
+		CFLAGS_ALL_LD="-fsanitize=address,undefined" $(FUZZ_SRC:tests/fuzz/%.c=build-fuzz/fuzz/%)
+
+fuzz-build: deps fuzz-targets
+
+fuzz: fuzz-build
 	@sh tests/fuzz/run.sh $${FUZZ_SECONDS:-60}
 
 install: all
@@ -132,6 +152,6 @@ uninstall:
 		$(DESTDIR)$(PREFIX)/share/bash-completion/completions/bathychron
 
 clean:
-	rm -rf build build-san demo-output
+	rm -rf build build-san build-fuzz demo-output
 
--include $(wildcard $(B)/lib/*.d $(B)/cli/*.d $(B)/unit/*.d)
+-include $(wildcard $(B)/lib/*.d $(B)/cli/*.d $(B)/unit/*.d $(B)/fuzz/*.d)
