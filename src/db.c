@@ -241,7 +241,13 @@ static int read_version(bc_db *db, int *version, bc_err *err)
 	*version = 0;
 	if (sqlite3_prepare_v2(db->sql, "PRAGMA application_id", -1, &st, NULL) != SQLITE_OK)
 		return bc_db__error(db, err, "reading the file header");
-	int app = sqlite3_step(st) == SQLITE_ROW ? sqlite3_column_int(st, 0) : 0;
+	int hstep = sqlite3_step(st);
+	int app = hstep == SQLITE_ROW ? sqlite3_column_int(st, 0) : 0;
+	if (hstep != SQLITE_ROW) { /* not an SQLite file, or busy: say which */
+		int rc = bc_db__error(db, err, "reading the file header");
+		sqlite3_finalize(st);
+		return rc;
+	}
 	sqlite3_finalize(st);
 	st = NULL;
 	if (app != GPKG_APPLICATION_ID)
