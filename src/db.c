@@ -27,6 +27,9 @@ int bc_db__error(bc_db *db, bc_err *err, const char *context)
 		return bc_err_set(err, BC_EBUSY, "%s: database busy (another bathychron is writing to it); try again when it has finished", db->path);
 	if (ec == SQLITE_NOTADB)
 		return bc_err_set(err, BC_EFOREIGN, "%s: not a bathychron database (not an SQLite file)", db->path);
+	if (ec == SQLITE_CORRUPT)
+		return bc_err_set(err, BC_EIO, "%s: %s: the database file is damaged (%s); restore it from a copy",
+			db->path, context, sqlite3_errmsg(db->sql));
 	if (ec == SQLITE_READONLY || ec == SQLITE_CANTOPEN || ec == SQLITE_IOERR || ec == SQLITE_FULL)
 		return bc_err_set(err, BC_EIO, "%s: %s: %s", db->path, context, sqlite3_errmsg(db->sql));
 	return bc_err_set(err, BC_EDB, "%s: %s: %s", db->path, context, sqlite3_errmsg(db->sql));
