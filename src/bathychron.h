@@ -350,6 +350,13 @@ int bc_plot_format_from_path(bc_plot_format *out, const char *path, bc_err *err)
 int bc_plot_shift(const char *path, const bc_plot_bin *bins, size_t n, const bc_chart *chart,
 		  const bc_plot_options *opt, bc_err *err);
 
+/**
+ * Frees the font caches cairo and fontconfig keep for the whole process,
+ * so leak checkers stay quiet. Call at most at exit, after the last figure,
+ * from a program that uses fontconfig for nothing else. Safe to call twice.
+ */
+void bc_plot_cleanup(void);
+
 /* == end of plot section == */
 
 #ifdef __cplusplus

@@ -9,6 +9,7 @@
 #include <cairo.h>
 #include <cairo-pdf.h>
 #include <cairo-svg.h>
+#include <dlfcn.h>
 #include <errno.h>
 #include <math.h>
 #include <stdlib.h>
@@ -439,10 +440,15 @@ static void plot_bar_row(cairo_t *cr, const plot *p, bc_plot__box row, bc_rank r
 		unsigned fill = iv->has_colour ? iv->colour : 0xFFFFFFu;
 		cairo_rectangle(cr, x0, row.y, w, row.h);
 		plot_rgb(cr, fill);
-		cairo_fill_preserve(cr);
-		plot_rgb(cr, GREY_OUTLINE);
-		cairo_set_line_width(cr, LINE_AXIS);
-		cairo_stroke(cr);
+		/* cells narrower than four outlines keep only their fill: a row of
+		 * hairline cells would otherwise print as a solid dark block */
+		if (w >= 4 * LINE_AXIS) {
+			cairo_fill_preserve(cr);
+			plot_rgb(cr, GREY_OUTLINE);
+			cairo_set_line_width(cr, LINE_AXIS);
+			cairo_stroke(cr);
+		} else
+			cairo_fill(cr);
 		char label[160];
 		for (int k = 0; plot_abbrev(iv->name, k, label, sizeof label); k++) {
 			if (plot_text_w(cr, label) <= w - 2.0) {
@@ -452,6 +458,10 @@ static void plot_bar_row(cairo_t *cr, const plot *p, bc_plot__box row, bc_rank r
 			}
 		}
 	}
+	cairo_rectangle(cr, row.x, row.y, row.w, row.h);
+	plot_rgb(cr, GREY_OUTLINE);
+	cairo_set_line_width(cr, LINE_AXIS);
+	cairo_stroke(cr);
 	plot_rgb(cr, 0x000000u);
 	plot_text(cr, g->main.x - 3.0, row.y + row.h / 2 + SIZE_SMALL * 0.36, 1.0, plot_rank_title(rank));
 }
@@ -692,7 +702,11 @@ static int plot_layout(plot *p, cairo_t *cr, const bc_plot_bin *bins, size_t n, 
 	/* Time ticks: about one per 14 mm, then widened until labels clear. */
 	double span = g->ma_hi - g->ma_lo;
 	double target = fmax(2.0, g->main.w / (14.0 * PT_PER_MM));
-	p->x_step = plot_nice_ceil(span / target);
+	/* the 1-2-5 step nearest (in ratio) to the target, then widened */
+	double raw = span / target, up = plot_nice_ceil(raw);
+	double mant = up / pow(10, floor(log10(up) + 1e-9));
+	double down = up / (mant < 1.5 ? 2.0 : mant < 3 ? 2.0 : 2.5);
+	p->x_step = raw / down < up / raw ? down : up;
 	for (int guard = 0; guard < 20; guard++) {
 		double widest = 0;
 		for (double t = ceil(g->ma_lo / p->x_step) * p->x_step; t <= g->ma_hi + 1e-9; t += p->x_step) {
@@ -1166,4 +1180,15 @@ done:
 	bc__buf_free(&png);
 	plot_free(&p);
 	return rc;
+}
+
+void bc_plot_cleanup(void)
+{
+	cairo_debug_reset_static_data();
+	/* fontconfig is loaded by cairo; the library does not link it directly */
+	void *sym = dlsym(RTLD_DEFAULT, "FcFini");
+	void (*fini)(void) = NULL;
+	memcpy(&fini, &sym, sizeof fini);
+	if (fini)
+		fini();
 }
