@@ -428,6 +428,57 @@ TEST(plot_samples_other_formats)
 	CHECK(access(pdf, R_OK) == 0);
 }
 
+/* No chart, a lone bin, every bin empty: still a figure, no timescale
+ * bar, and nothing drawn as a zero. */
+TEST(plot_sparse_inputs)
+{
+	bc_err err = {0};
+	bc_plot_bin one = {.label = "lone", .older_ma = 72.2, .younger_ma = 66.0, .n = 4, .n_shallow = 3, .n_deep = 1,
+			   .has_frac = 1, .frac = 0.25, .lo = 0.05, .hi = 0.7};
+	CHECK_OK(bc_plot_shift(out_path("lone.svg"), &one, 1, NULL, NULL, &err), &err);
+	bc_plot__geom g;
+	CHECK_OK(bc_plot__layout(&g, &one, 1, NULL, NULL, &err), &err);
+	CHECK(g.fine_row.h == 0 && g.coarse_row.h == 0);
+	bc_plot_bin empty[2] = {{.older_ma = 80, .younger_ma = 70, .n = 2, .n_straddle = 2}, {.older_ma = 70, .younger_ma = 60}};
+	const char *p = out_path("empty.png");
+	CHECK_OK(bc_plot_shift(p, empty, 2, NULL, NULL, &err), &err);
+	CHECK_OK(bc_plot__layout(&g, empty, 2, NULL, NULL, &err), &err);
+	cairo_surface_t *s = cairo_image_surface_create_from_png(p);
+	CHECK(cairo_surface_status(s) == CAIRO_STATUS_SUCCESS);
+	long blue = png_count(s, &g.main, 300.0 / 72.0, 0x0072B2);
+	cairo_surface_destroy(s);
+	CHECK_INT(blue, 0);
+}
+
+/* Every allocation of ours that can fail gives BC_ENOMEM or success,
+ * never a crash or a leak (the sanitizer build checks the leaks). */
+TEST(plot_out_of_memory)
+{
+	bc_plot_bin bins[N_BINS];
+	make_bins(bins);
+	bc_chart *c = make_chart();
+	CHECK(c != NULL);
+	bc_plot_options o = BC_PLOT_OPTIONS_INIT;
+	o.caption = caption_text();
+	const char *p = out_path("oom.pdf");
+	int failures = 0, bad = 0;
+	for (long k = 1; k < 400; k++) {
+		bc_err err = {0};
+		bc__alloc_fail_after(k);
+		int rc = bc_plot_shift(p, bins, N_BINS, c, &o, &err);
+		bc__alloc_fail_after(0);
+		if (rc == BC_ENOMEM)
+			failures++;
+		else if (rc != 0)
+			bad = rc;
+		if (rc == 0)
+			break;
+	}
+	bc_chart_free(c);
+	CHECK_INT(bad, 0);
+	CHECK(failures > 5);
+}
+
 /* Runs last (tests run in file order): frees cairo's and fontconfig's
  * font caches so the sanitizer build reports no leaks; a second figure
  * after the clean-up must still draw. */
