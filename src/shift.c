@@ -316,7 +316,8 @@ int bc_shift__count(double *counts, size_t *n_refs, size_t *n_locs, bc_shift__ta
 				if (ov <= 0)
 					continue;
 				total += ov;
-				if (ov > bestov) { /* strict: ties keep the older bin */
+				/* ties (within 1e-9 Myr, rounding of the bounds) keep the older bin */
+				if (ov > bestov + 1e-9) {
 					bestov = ov;
 					best = k;
 				}
