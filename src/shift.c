@@ -1054,15 +1054,16 @@ static int dup_opt(char **dst, const char **field)
 /* The selection as words, for messages and the stamp. */
 static void describe_selection(const bc_shift_options *o, bc_buf *b)
 {
+	size_t start = b->len;
 	if (o->group)
-		bc__buf_printf(b, "%sgroup %s", b->len ? ", " : "", o->group);
+		bc__buf_printf(b, "%sgroup %s", b->len > start ? ", " : "", o->group);
 	if (o->taxon)
-		bc__buf_printf(b, "%staxon %s", b->len ? ", " : "", o->taxon);
+		bc__buf_printf(b, "%staxon %s", b->len > start ? ", " : "", o->taxon);
 	if (o->preservation)
-		bc__buf_printf(b, "%spreservation %s", b->len ? ", " : "", o->preservation);
+		bc__buf_printf(b, "%spreservation %s", b->len > start ? ", " : "", o->preservation);
 	if (o->has_region)
-		bc__buf_printf(b, "%sregion %g,%g,%g,%g (W,S,E,N)", b->len ? ", " : "", o->region[0], o->region[1], o->region[2], o->region[3]);
-	if (!b->len)
+		bc__buf_printf(b, "%sregion %g,%g,%g,%g (W,S,E,N)", b->len > start ? ", " : "", o->region[0], o->region[1], o->region[2], o->region[3]);
+	if (b->len == start)
 		bc__buf_puts(b, "all occurrences");
 }
 
