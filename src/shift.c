@@ -692,16 +692,6 @@ static void put_le64(struct sha256_ctx *h, uint64_t v)
 	sha256_update(h, 8, b);
 }
 
-static void put_f64(struct sha256_ctx *h, sqlite3_stmt *st, int col)
-{
-	uint64_t bits = 0x7ff8000000000000ULL;
-	if (sqlite3_column_type(st, col) != SQLITE_NULL) {
-		double v = sqlite3_column_double(st, col);
-		memcpy(&bits, &v, sizeof bits);
-	}
-	put_le64(h, bits);
-}
-
 static void put_str(struct sha256_ctx *h, const char *s)
 {
 	size_t n = strlen(s);
@@ -751,7 +741,8 @@ static int load(bc_shift *s, bc_db *db, bc_err *err)
 	bc_db__bind_text(st, ":pres", artic >= 0 ? NULL : s->opts.preservation);
 	sha256_init(&hash);
 	int64_t maxloc = -1;
-	int step;
+	int step, last_class = -1;
+	char last_art[64] = "";
 	while ((step = sqlite3_step(st)) == SQLITE_ROW) {
 		s->sum.n_selected++;
 		if (s->opts.has_region) {
@@ -764,21 +755,30 @@ static int load(bc_shift *s, bc_db *db, bc_err *err)
 				continue;
 			}
 		}
+		/* Each column is read once: every sqlite3_column_* call takes the connection's mutex. */
 		int64_t pk = sqlite3_column_int64(st, 0);
+		double v[4];
+		uint64_t bits[4];
+		int isnull[4];
+		for (int c = 0; c < 4; c++) {
+			isnull[c] = sqlite3_column_type(st, c + 1) == SQLITE_NULL;
+			v[c] = isnull[c] ? NAN : sqlite3_column_double(st, c + 1);
+			bits[c] = 0x7ff8000000000000ULL;
+			if (!isnull[c])
+				memcpy(&bits[c], &v[c], sizeof bits[c]);
+		}
 		const char *ref = (const char *)sqlite3_column_text(st, 5);
-		const char *art = (const char *)sqlite3_column_text(st, 7);
 		int64_t loc = sqlite3_column_type(st, 6) == SQLITE_NULL ? -1 : sqlite3_column_int64(st, 6);
+		const char *art = (const char *)sqlite3_column_text(st, 7);
 		ref = ref ? ref : "";
 		art = art ? art : "";
 		put_le64(&hash, (uint64_t)pk);
-		put_f64(&hash, st, 1);
-		put_f64(&hash, st, 2);
-		put_f64(&hash, st, 3);
-		put_f64(&hash, st, 4);
+		for (int c = 0; c < 4; c++)
+			put_le64(&hash, bits[c]);
 		put_le64(&hash, (uint64_t)loc);
 		put_str(&hash, art);
 		put_str(&hash, ref);
-		int nomin = sqlite3_column_type(st, 3) == SQLITE_NULL, nomax = sqlite3_column_type(st, 4) == SQLITE_NULL;
+		int nomin = isnull[2], nomax = isnull[3];
 		if (nomin && nomax) {
 			s->sum.n_no_depth++;
 			continue;
@@ -798,17 +798,22 @@ static int load(bc_shift *s, bc_db *db, bc_err *err)
 		}
 		bc_shift__occ *o = &s->occ[s->nocc];
 		o->pk = pk;
-		o->older = sqlite3_column_double(st, 1);
-		o->younger = sqlite3_column_double(st, 2);
+		o->older = v[0];
+		o->younger = v[1];
 		/* One depth alone stands for the range [d, d]. */
-		o->dmin = sqlite3_column_double(st, nomin ? 4 : 3);
-		o->dmax = sqlite3_column_double(st, nomax ? 3 : 4);
+		o->dmin = nomin ? v[3] : v[2];
+		o->dmax = nomax ? v[2] : v[3];
 		o->ref = -1;
 		if (*ref && intern(s, &refs, ref, &o->ref)) {
 			rc = oom(err);
 			goto done;
 		}
-		int a = art_class(art);
+		/* the class of the previous row is usually the same */
+		if (strcmp(art, last_art) != 0) {
+			last_class = art_class(art);
+			snprintf(last_art, sizeof last_art, "%s", art);
+		}
+		int a = strlen(art) < sizeof last_art ? last_class : art_class(art);
 		o->artic = (uint8_t)(a < 0 ? BC_SHIFT__ART_UNKNOWN : a);
 		int z2 = bc_shift__zone(o->dmin, o->dmax, s->opts.zones, 1);
 		o->zone2 = (uint8_t)(z2 < 0 ? BC_SHIFT__STRADDLE : z2);

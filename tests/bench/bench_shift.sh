@@ -8,7 +8,8 @@ top=$(cd "$(dirname "$0")/../.." && pwd)
 BC=${BC_PROGRAM:-$top/build/bathychron}
 N=${BENCH_SHIFT_N:-1000000}
 d=$(mktemp -d)
-trap 'rm -rf "$d"' EXIT; [ -n "${BENCH_KEEP:-}" ] && trap - EXIT && echo "keeping $d"
+trap 'rm -rf "$d"' EXIT
+[ -n "${BENCH_KEEP:-}" ] && trap - EXIT && echo "keeping $d"
 "$BC" init "$d/b.gpkg" >/dev/null
 # Invented, deterministic occurrences: ages 0-250 Ma with ranges of 0-12 Myr, depths
 # 0-3000 m (some missing), 5000 references, 20000 localities.
