@@ -131,6 +131,7 @@ struct bc_resolver {
 	strmap prio;    /* key -> priority of the label that set it (0 best) */
 	strmap stems;   /* stem of a one-word name -> interval, -2 if ambiguous */
 	strmap aliases; /* alias key -> index into alias_v */
+	strmap alias_stems; /* stem of a one-word alias -> index into alias_v, -2 if ambiguous */
 	alias *alias_v;
 	size_t nalias, capalias;
 	int (*pos_child)[3]; /* per interval: its Lower/Middle/Upper child, or -1 */
@@ -482,6 +483,20 @@ static int finest_at(const bc_resolver *r, double ma, int older_end)
 	return best;
 }
 
+/* An alias by the stem of a one-word key ("Senonien" -> Senonian), or NULL. */
+static const int *alias_by_stem(const bc_resolver *r, const char *key, size_t n)
+{
+	char word[AGE_KEY_MAX], stem[AGE_KEY_MAX];
+	if (n < 5 || n >= sizeof word || memchr(key, ' ', n))
+		return NULL;
+	memcpy(word, key, n);
+	word[n] = '\0';
+	const int *v = strmap_get(&r->alias_stems, word);
+	if ((!v || *v < 0) && age_stem(word, stem, sizeof stem) >= 4)
+		v = strmap_get(&r->alias_stems, stem);
+	return v && *v >= 0 ? v : NULL;
+}
+
 /* Looks a key up as a chart name, label or IRI, then (if allowed) an alias, then by stem. */
 static int lookup_key(const bc_resolver *r, const char *key, size_t n, int use_alias, span *sp, work *w)
 {
@@ -490,7 +505,7 @@ static int lookup_key(const bc_resolver *r, const char *key, size_t n, int use_a
 		*sp = span_of(r, *v);
 		return 1;
 	}
-	if (use_alias && (v = strmap_getn(&r->aliases, key, n)) != NULL) {
+	if (use_alias && ((v = strmap_getn(&r->aliases, key, n)) != NULL || (v = alias_by_stem(r, key, n)) != NULL)) {
 		const alias *a = &r->alias_v[*v];
 		*sp = a->sp;
 		if (w) {
@@ -1461,12 +1476,18 @@ static int alias_add(bc_resolver *r, const char *text, const char *note, span sp
 		r->alias_v = p;
 		r->capalias = cap;
 	}
+	char stem[AGE_KEY_MAX];
 	if (strmap_set(&r->aliases, key, (int)r->nalias) != BC_OK) {
 		free(a.text);
 		free(a.note);
 		return BC_ENOMEM;
 	}
 	r->alias_v[r->nalias++] = a;
+	if (age_stem(key, stem, sizeof stem) >= 4) {
+		const int *s = strmap_get(&r->alias_stems, stem);
+		if (strmap_set(&r->alias_stems, stem, s && *s != (int)r->nalias - 1 ? -2 : (int)r->nalias - 1))
+			return BC_ENOMEM;
+	}
 	return BC_OK;
 }
 
@@ -1633,6 +1654,7 @@ void bc_resolver_free(bc_resolver *r)
 	strmap_free(&r->prio);
 	strmap_free(&r->stems);
 	strmap_free(&r->aliases);
+	strmap_free(&r->alias_stems);
 	for (size_t i = 0; i < r->nalias; i++) {
 		free(r->alias_v[i].text);
 		free(r->alias_v[i].note);
