@@ -1217,6 +1217,7 @@ static void resolve_folded(const bc_resolver *r, const char *folded, bc_age *out
 		note_add(note, sizeof note, "no age in the text");
 		goto finish;
 	}
+	int numbers = 0; /* 1: starts like a number but is not one we can read */
 	if (is_digit(*p) || (*p == '.' && is_digit(p[1]))) {
 		int rc = resolve_numbers(r, p, &sp, note, sizeof note);
 		if (rc == 1) {
@@ -1227,12 +1228,11 @@ static void resolve_folded(const bc_resolver *r, const char *folded, bc_age *out
 			}
 			goto finish;
 		}
-		if (rc < 0) {
+		if (rc == -2) {
 			out->status = BC_AGE_UNKNOWN;
-			if (rc == -1)
-				note_add(note, sizeof note, "could not read the numbers (expected e.g. '72 Ma', '83.6-72.1 Ma', '75 +/- 2 Ma')");
 			goto finish;
 		}
+		numbers = rc == -1; /* maybe a name that starts with a digit ("3 Serie") */
 	}
 	bc_age_status st;
 	int either = 0;
@@ -1247,6 +1247,10 @@ static void resolve_folded(const bc_resolver *r, const char *folded, bc_age *out
 		goto finish;
 	}
 	out->status = BC_AGE_UNKNOWN;
+	if (numbers) {
+		note_add(note, sizeof note, "could not read the numbers (expected e.g. '72 Ma', '83.6-72.1 Ma', '75 +/- 2 Ma')");
+		goto finish;
+	}
 	{
 		char key[AGE_KEY_MAX];
 		if (key_of_part(p, strlen(p), key, sizeof key)) {
