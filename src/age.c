@@ -653,6 +653,9 @@ static int resolve_term(const bc_resolver *r, const char *key_in, span *sp, work
 	int a = 0;
 	while (a < n - 1 && WORD_IN(ws[a], wl[a], age_filler))
 		a++;
+	w->kind = BC_AGE_EXACT;
+	if (lookup_words(r, ws, wl, a, n, sp, w)) /* names that end in a rank word ("3 Serie") */
+		return 1;
 	while (n - a > 1 && (WORD_IN(ws[n - 1], wl[n - 1], age_rankword) || WORD_IN(ws[n - 1], wl[n - 1], age_filler)))
 		n--;
 	w->kind = BC_AGE_EXACT;
