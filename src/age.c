@@ -123,7 +123,8 @@ typedef struct cached {
 	char *note;
 } cached;
 
-enum { AGE_CACHE_MAX = 1 << 20, AGE_KEY_MAX = 512 };
+/* The caches stop growing at AGE_CACHE_MAX answers (a few tens of MB at most). */
+enum { AGE_CACHE_MAX = 1 << 18, AGE_KEY_MAX = 512, AGE_RAW_MAX = 256 };
 
 struct bc_resolver {
 	const bc_chart *chart;
@@ -1336,7 +1337,7 @@ int bc_age_resolve(bc_resolver *r, const char *text, bc_age *out)
 	if (!text)
 		text = "";
 	size_t len = strlen(text);
-	const int *hit = len <= 1024 ? strmap_getn(&r->raw, text, len) : NULL;
+	const int *hit = len <= AGE_RAW_MAX ? strmap_getn(&r->raw, text, len) : NULL;
 	if (hit) {
 		cache_get(r, *hit, out);
 		return BC_OK;
@@ -1365,7 +1366,7 @@ int bc_age_resolve(bc_resolver *r, const char *text, bc_age *out)
 		if ((slot = cache_put(r, out)) < 0 || strmap_setn(&r->norm, folded, (size_t)n, slot) != BC_OK)
 			return BC_OK;
 	}
-	if (len <= 1024 && r->raw.n < AGE_CACHE_MAX)
+	if (len <= AGE_RAW_MAX && r->raw.n < AGE_CACHE_MAX)
 		strmap_setn(&r->raw, text, len, slot);
 	return BC_OK;
 }
