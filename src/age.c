@@ -1091,6 +1091,20 @@ static void suggest_consider(suggestions *sg, const char *name, size_t d)
 		}
 }
 
+/* Byte lengths this far apart cannot be within `max` edits of each other
+ * (a code point is 1 to 4 bytes, so allow 4 bytes per edit). */
+static int len_near(size_t a, size_t b, size_t max)
+{
+	return (a > b ? a - b : b - a) <= 4 * max;
+}
+
+/* Candidates for a suggestion: near in length, and with the first or the
+ * second byte right (a cheap filter; typing slips rarely hit both). */
+static int cand_near(const char *key, size_t len, const char *cand, size_t max)
+{
+	return len_near(len, strlen(cand), max) && (cand[0] == key[0] || (cand[0] && key[0] && cand[1] == key[1]));
+}
+
 /* Up to three chart names (or aliases) nearest to `key` by edit distance. */
 static void suggest(const bc_resolver *r, const char *key, char *note, size_t cap)
 {
@@ -1099,14 +1113,14 @@ static void suggest(const bc_resolver *r, const char *key, char *note, size_t ca
 	if (!len || len > 64)
 		return;
 	for (size_t i = 0; i < r->names.cap; i++) {
-		if (!r->names.keys[i])
+		if (!r->names.keys[i] || !cand_near(key, len, r->names.keys[i], max))
 			continue;
 		size_t d = bc_text__edit_distance(key, r->names.keys[i], max);
 		if (d <= max)
 			suggest_consider(&sg, bc_chart_interval(r->chart, (size_t)r->names.vals[i])->name, d);
 	}
 	for (size_t i = 0; i < r->aliases.cap; i++) {
-		if (!r->aliases.keys[i])
+		if (!r->aliases.keys[i] || !cand_near(key, len, r->aliases.keys[i], max))
 			continue;
 		size_t d = bc_text__edit_distance(key, r->aliases.keys[i], max);
 		if (d <= max)

@@ -125,21 +125,27 @@ size_t bc_text__key(char *s)
 	return o;
 }
 
-/* Decodes up to `max` code points; returns the count, or max + 1 if longer. */
+/* Decodes up to `max` code points; returns the count, or max + 1 if longer.
+ * ASCII bytes are taken as they are; only other bytes go through utf8proc. */
 static size_t text_decode(const char *s, int32_t *cp, size_t max)
 {
-	size_t n = 0, len = strlen(s);
-	for (size_t i = 0; i < len;) {
+	size_t n = 0;
+	const unsigned char *p = (const unsigned char *)s;
+	while (*p) {
+		if (n == max)
+			return max + 1;
+		if (*p < 0x80) {
+			cp[n++] = *p++;
+			continue;
+		}
 		int32_t c;
-		utf8proc_ssize_t k = utf8proc_iterate((const utf8proc_uint8_t *)s + i, (utf8proc_ssize_t)(len - i), &c);
+		utf8proc_ssize_t k = utf8proc_iterate(p, -1, &c);
 		if (k <= 0) {
 			c = 0xfffd;
 			k = 1;
 		}
-		if (n == max)
-			return max + 1;
 		cp[n++] = c;
-		i += (size_t)k;
+		p += k;
 	}
 	return n;
 }
