@@ -280,7 +280,10 @@ typedef struct bc_resolver bc_resolver;
 
 /**
  * A resolver over `chart` (borrowed: it must outlive the resolver) with the
- * shipped alias table (reference/age-aliases.tsv) loaded.
+ * shipped alias table (reference/age-aliases.tsv) loaded. Rules and
+ * conventions: doc/age-resolution.md. A resolver caches its answers, so it
+ * is not safe to share between threads: use one per thread. Free it with
+ * bc_resolver_free().
  */
 int bc_resolver_new(bc_resolver **out, const bc_chart *chart, bc_err *err);
 /**
