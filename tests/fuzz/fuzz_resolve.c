@@ -2,19 +2,16 @@
  * fuzz_resolve.c - libFuzzer target for bc_age_resolve and
  * bc_age_resolve_pair: arbitrary bytes (cut at the first NUL, as C strings
  * are) must never crash; invalid UTF-8 must come back as status unknown.
- * Seeds: tests/fuzz/resolve/. Build, e.g.:
- *   clang -g -O1 -fsanitize=fuzzer,address,undefined -Isrc tests/fuzz/fuzz_resolve.c \
- *     build-san/libbathychron.a $(pkg-config --libs ...) -lcsv -lm -lpthread -o build/fuzz_resolve
- *   build/fuzz_resolve -max_total_time=60 tests/fuzz/resolve
+ * Seeds: tests/fuzz/resolve/, dictionary tests/fuzz/resolve.dict.
+ * Built by make fuzz-build (build-fuzz/fuzz/fuzz_resolve); make fuzz runs it.
  */
+#include "fuzz.h"
 #include "bathychron.h"
 
 #include <stdlib.h>
 #include <string.h>
 
-int LLVMFuzzerTestOneInput(const unsigned char *data, size_t size);
-
-int LLVMFuzzerTestOneInput(const unsigned char *data, size_t size)
+int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
 {
 	static bc_chart *chart;
 	static bc_resolver *r;
@@ -30,6 +27,16 @@ int LLVMFuzzerTestOneInput(const unsigned char *data, size_t size)
 		abort();
 	if (a.status != BC_AGE_UNKNOWN && !(a.older_ma >= a.younger_ma))
 		abort();
+	/* Text fields end within their arrays and stay valid UTF-8 (a note
+	 * that quotes the input must not cut a character in two). */
+	int utf8 = fuzz_utf8_valid((const unsigned char *)s, strlen(s));
+	if (!utf8 && a.status != BC_AGE_UNKNOWN)
+		abort();
+	if (!fuzz_field_ok(a.from, sizeof a.from, 1) || !fuzz_field_ok(a.to, sizeof a.to, 1) ||
+	    !fuzz_field_ok(a.note, sizeof a.note, utf8)) {
+		fprintf(stderr, "from/to/note not terminated or not UTF-8: note \"%.80s\"\n", a.note);
+		abort();
+	}
 	/* split in two at a tab, as the two Darwin Core columns */
 	char *tab = strchr(s, '\t');
 	if (tab) {
