@@ -391,3 +391,14 @@ int bc_csv__quote(bc_buf *b, const char *s, char delim)
 	}
 	return bc__buf_append(b, "\"", 1);
 }
+
+int bc_csv__text_cell(bc_buf *b, const char *s, char delim, int guard)
+{
+	if (guard && s[0] && strchr("=+-@\t\r", s[0])) {
+		bc_buf g = {0};
+		int rc = bc__buf_append(&g, "'", 1) || bc__buf_puts(&g, s) || bc_csv__quote(b, g.data, delim) ? BC_ENOMEM : BC_OK;
+		bc__buf_free(&g);
+		return rc;
+	}
+	return bc_csv__quote(b, s, delim);
+}

@@ -49,4 +49,11 @@ int bc_csv__utf8_valid(const unsigned char *s, size_t n, size_t *bad_at);
 /** Writes one cell to `b` quoted as RFC 4180 needs for delimiter `delim`. */
 int bc_csv__quote(bc_buf *b, const char *s, char delim);
 
+/**
+ * Writes a text cell: with `guard`, a cell starting with = + - @ tab or CR
+ * gets a leading ' so a spreadsheet shows it as text instead of running
+ * it as a formula (OWASP "CSV Injection"); then quoted as needed.
+ */
+int bc_csv__text_cell(bc_buf *b, const char *s, char delim, int guard);
+
 #endif

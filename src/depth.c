@@ -80,7 +80,7 @@ int bc_depth__range(const char *s, double *min, double *max, const char **why)
 
 void bc_depth__format(double v, char *out, size_t cap)
 {
-	for (int prec = 1; prec <= 17; prec++) {
+	for (int prec = 15; prec <= 17; prec++) {
 		snprintf(out, cap, "%.*g", prec, v);
 		if (strtod(out, NULL) == v)
 			return;

@@ -558,13 +558,14 @@ static int import_coords(importer *im, occ *o)
 /*
  * Finds or creates the locality of a row: one per (name, country,
  * coordinates). Kept behind this one function so the locality module can
- * take over. A row with neither a name nor coordinates has no locality.
+ * take over. A row with no name, no country and no coordinates has no
+ * locality.
  */
 static int import_locality(importer *im, occ *o, bc_err *err)
 {
 	const char *name = im->cell[BC_T_LOCALITY], *country = im->cell[BC_T_COUNTRY];
 	o->locality = 0;
-	if (!*name && !o->has_coords)
+	if (!*name && !*country && !o->has_coords)
 		return BC_OK;
 	char key[1200];
 	if (o->has_coords)
