@@ -199,6 +199,50 @@ int bc_timescale_store(bc_db *db, const bc_chart *chart, const char *loaded_from
 /** Reads a stored chart; `name` NULL means the database's default. */
 int bc_timescale_get(bc_chart **out, bc_db *db, const char *name, bc_err *err);
 
+/*
+ * Additions beyond the declarations above (same section, same owner).
+ */
+
+/**
+ * Like bc_timescale_store, but a stored chart of the same name is replaced
+ * (its intervals and labels too) in the same transaction; a replaced
+ * default chart stays the default. Occurrences already resolved keep their
+ * stored ages: re-import to resolve them against the new chart.
+ */
+int bc_timescale_replace(bc_db *db, const bc_chart *chart, const char *loaded_from, int make_default, bc_err *err);
+
+/** One stored chart, as listed by bc_timescale_list. */
+typedef struct bc_timescale_info {
+	char name[128];
+	int is_default;
+	size_t n_intervals;
+	char source[1024];
+	char licence[256];
+	char loaded_from[512];
+	char loaded_at[32];
+} bc_timescale_info;
+
+/**
+ * The stored charts, default first, then by name. `*out` is the caller's
+ * (free it with free()); `*n` is its length.
+ */
+int bc_timescale_list(bc_timescale_info **out, size_t *n, bc_db *db, bc_err *err);
+
+/**
+ * Gives each interval of `dst` without a colour the colour of the interval
+ * of `src` with the same IRI (or, failing that, the same English name),
+ * recording `colour_source` (e.g. "ICS 2024-12 chart colours"). Returns
+ * the number of intervals coloured (>= 0) or a negative code.
+ */
+int bc_chart_copy_colours(bc_chart *dst, const bc_chart *src, const char *colour_source, bc_err *err);
+
+/**
+ * Reads a chart from a file by its form: SKOS RDF/XML (.rdf, .xml, .owl,
+ * or a file starting with '<') or the project's TSV. `name` NULL names it
+ * from the file name ("ics-chart-2020.skos.rdf" -> "ics-chart-2020").
+ */
+int bc_chart_load_file(bc_chart **out, const char *path, const char *name, bc_err *err);
+
 /* == end of chart loading section == */
 
 /* ------------------------------------------------------------------ */
@@ -368,6 +412,53 @@ int bc_export_csv(bc_db *db, FILE *out, long long *n_rows, bc_err *err);
 /* ------------------------------------------------------------------ */
 
 /* == geo section == */
+
+/**
+ * Spatial coverage of a set of localities, the usual yardsticks of how much
+ * of the world a sample covers (more localities, cells and a longer tree
+ * mean more spread-out sampling; a shift between bins can follow a change
+ * in coverage rather than in habitat).
+ */
+typedef struct bc_coverage_options {
+	double cell_km;   /* edge of the equal-area grid cells, km (> 0) */
+} bc_coverage_options;
+/** Cells of 100 km on EPSG:6933 (WGS 84 / NSIDC EASE-Grid 2.0 Global). */
+#define BC_COVERAGE_OPTIONS_INIT {100.0}
+
+typedef struct bc_coverage {
+	size_t n_localities;       /* distinct localities with coordinates */
+	size_t n_unlocated;        /* distinct localities without coordinates (not counted below) */
+	size_t n_without_locality; /* occurrences with no locality at all (occurrence form only) */
+	size_t n_cells;            /* occupied cells of cell_km x cell_km on EPSG:6933, grid origin at its (0, 0) */
+	double cell_km;            /* the cell edge used */
+	double min_lat, max_lat;   /* WGS 84 degrees; NaN when n_localities is 0 */
+	double lat_range;          /* max_lat - min_lat, degrees; 0 for one locality, NaN for none */
+	double mst_km;             /* summed geodesic length (WGS 84) of the minimum spanning tree, km */
+} bc_coverage;
+
+/**
+ * Coverage of `n` points given as WGS 84 longitude/latitude, each counted
+ * as one locality. `opts` NULL means BC_COVERAGE_OPTIONS_INIT. BC_EINVALID
+ * for a coordinate off the globe or a cell size <= 0. Fills `*out`.
+ */
+int bc_coverage_points(bc_coverage *out, const double *lon, const double *lat, size_t n,
+		       const bc_coverage_options *opts, bc_err *err);
+
+/**
+ * Coverage of the localities with the given fids (`fids` NULL: every
+ * locality in the database). Repeated fids count once; an unknown fid gives
+ * BC_ENOTFOUND.
+ */
+int bc_coverage_localities(bc_coverage *out, bc_db *db, const int64_t *fids, size_t n,
+			   const bc_coverage_options *opts, bc_err *err);
+
+/**
+ * Coverage of the localities of the occurrences with the given primary keys
+ * (occurrences.occurrence_pk; `pks` NULL: every occurrence). An unknown key
+ * gives BC_ENOTFOUND.
+ */
+int bc_coverage_occurrences(bc_coverage *out, bc_db *db, const int64_t *pks, size_t n,
+			    const bc_coverage_options *opts, bc_err *err);
 
 /* == end of geo section == */
 
