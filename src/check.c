@@ -6,6 +6,7 @@
  */
 #include "csvio.h"
 #include "db.h"
+#include "locality.h"
 
 #include <stdlib.h>
 #include <string.h>
@@ -112,16 +113,43 @@ static const char sql_duplicates[] =
 	"FROM g JOIN occurrences o ON o.occurrence_pk = g.first JOIN import_batches b ON b.batch_id = o.batch_id "
 	"ORDER BY g.first";
 
-static const char sql_locality_coords[] =
-	"SELECT 'locality_coordinates', '', '', '', name, "
-	"  count(*) || ' different coordinates for one locality name: ' || "
-	"  group_concat(printf('%.6f %.6f (lat lon)', latitude, longitude), '; ') "
-	"FROM localities WHERE name <> '' AND longitude IS NOT NULL GROUP BY name, country HAVING count(*) > 1 ORDER BY name";
-
 static const char sql_no_coords[] =
 	"SELECT 'no_coordinates', '', '', '', '', "
 	"  count(*) || ' of ' || (SELECT count(*) FROM occurrences) || ' stored occurrences have no coordinates (information; not counted as a problem)' "
 	"FROM occurrences o LEFT JOIN localities l ON l.fid = o.locality_id WHERE l.longitude IS NULL HAVING count(*) > 0";
+
+/* Two coordinate pairs for one locality closer than this are taken as the
+ * same place written with different rounding: a pair rounded to three
+ * decimals of a degree moves by up to about 80 m (common practice, no
+ * source). */
+#define CHECK_LOCALITY_TOLERANCE_M 200.0
+
+typedef struct conflict_ctx {
+	writer *w;
+	long long *count;
+	int rc;
+} conflict_ctx;
+
+static int on_conflict(const bc_locality_conflict *c, void *user)
+{
+	conflict_ctx *x = user;
+	char batch[8] = "", line[32] = "", detail[1024];
+	if (c->line)
+		snprintf(line, sizeof line, "%lld", (long long)c->line);
+	snprintf(detail, sizeof detail,
+		"given %.6f %.6f (lat lon)%s%s%s, %.0f m from the kept %.6f %.6f (first given at %s:%lld); the locality keeps the first",
+		c->lat, c->lon, c->verbatim && c->verbatim[0] ? " as '" : "", c->verbatim && c->verbatim[0] ? c->verbatim : "",
+		c->verbatim && c->verbatim[0] ? "'" : "", c->distance_m, c->kept_lat, c->kept_lon,
+		c->kept_file && c->kept_file[0] ? c->kept_file : "?", (long long)c->kept_line);
+	char key[600];
+	snprintf(key, sizeof key, "%s%s%s", c->name ? c->name : "", c->country && c->country[0] ? ", " : "", c->country ? c->country : "");
+	const char *v[6] = {"locality_coordinates", batch, c->file ? c->file : "", line, key, detail};
+	int rc = w_row(x->w, v);
+	if (rc)
+		return x->rc = rc;
+	(*x->count)++;
+	return 0;
+}
 
 static int write_quarantine(bc_db *db, FILE *out, long long *n, bc_err *err)
 {
@@ -257,9 +285,15 @@ int bc_check_run(bc_db *db, const bc_check_options *opts, FILE *out, long long *
 			fprintf(out, "%s%s", i ? (w.fmt == BC_FORMAT_CSV ? "," : "\t") : "", report_cols[i]);
 		fputs("\n", out);
 	}
-	const char *const problems[] = {sql_quarantined, sql_unlinked, sql_conflicts, sql_duplicates, sql_locality_coords};
+	const char *const problems[] = {sql_quarantined, sql_unlinked, sql_conflicts, sql_duplicates};
 	for (size_t i = 0; rc == BC_OK && i < sizeof problems / sizeof problems[0]; i++)
 		rc = run_query(db, &w, problems[i], n_problems, err);
+	if (rc == BC_OK) {
+		conflict_ctx x = {&w, n_problems, 0};
+		rc = bc_locality__conflicts(db, CHECK_LOCALITY_TOLERANCE_M, on_conflict, &x, err);
+		if (x.rc)
+			rc = bc_err_set(err, x.rc, x.rc == BC_EIO ? "writing the report failed" : "out of memory");
+	}
 	if (rc == BC_OK)
 		rc = run_query(db, &w, sql_no_coords, NULL, err);
 	if (rc == BC_OK && w.fmt == BC_FORMAT_JSON)

@@ -8,6 +8,7 @@
 #include "csvio.h"
 #include "depth.h"
 #include "geo.h"
+#include "locality.h"
 #include "vocab.h"
 
 #include <math.h>
@@ -34,14 +35,6 @@ static const char sql_insert_occ[] =
 
 static const char sql_insert_quarantine[] =
 	"INSERT INTO quarantine (batch_id, file, line, field, reason, raw_row) VALUES (:batch, :file, :line, :field, :reason, :raw)";
-
-static const char sql_find_locality[] =
-	"SELECT fid FROM localities WHERE name = :name AND country = :country AND longitude IS :lon AND latitude IS :lat "
-	"ORDER BY fid LIMIT 1";
-
-static const char sql_insert_locality[] =
-	"INSERT INTO localities (geom, name, country, longitude, latitude, verbatim_coordinates, verbatim_srs, uncertainty_m) "
-	"VALUES (:geom, :name, :country, :lon, :lat, :verbatim, :srs, :uncertainty)";
 
 /* ---- small caches -------------------------------------------------- */
 
@@ -96,7 +89,8 @@ typedef struct importer {
 	bc_chart *chart;
 	bc_resolver *res;
 	bc_geo *geo;
-	sqlite3_stmt *st_occ, *st_q, *st_locf, *st_loci;
+	sqlite3_stmt *st_occ, *st_q;
+	bc_locality_cache *loc;
 	int occ_idx[40];
 	int64_t batch;
 	/* the current row */
@@ -301,6 +295,15 @@ static void append_note(char *note, size_t cap, const char *fmt, ...)
 	va_end(ap);
 }
 
+/* "Campanian" or "Campanian-Maastrichtian". */
+static void span_name(const bc_age *a, char *out, size_t cap)
+{
+	if (strcmp(a->from, a->to) == 0 || !a->to[0])
+		snprintf(out, cap, "%s", a->from);
+	else
+		snprintf(out, cap, "%s-%s", a->from, a->to);
+}
+
 /*
  * The age step: text columns (stage, else series, else system; coarser
  * levels given as well are checked against the finest) and numbers.
@@ -350,9 +353,12 @@ static int import_age(importer *im, occ *o)
 		}
 		if (text.older_ma > lv.older_ma + tol || text.younger_ma < lv.younger_ma - tol) {
 			o->conflict = 1;
-			append_note(o->note, sizeof o->note, "age conflict: %s %s-%s (%g-%g Ma) lies outside %s %s-%s (%g-%g Ma)",
-				finest == 0 ? "stage" : "series", text.from, text.to, text.older_ma, text.younger_ma,
-				k == 1 ? "series" : "system", lv.from, lv.to, lv.older_ma, lv.younger_ma);
+			char n1[300], n2[300];
+			span_name(&text, n1, sizeof n1);
+			span_name(&lv, n2, sizeof n2);
+			append_note(o->note, sizeof o->note, "age conflict: %s %s (%g-%g Ma) lies outside %s %s (%g-%g Ma)",
+				finest == 0 ? "stage" : "series", n1, text.older_ma, text.younger_ma,
+				k == 1 ? "series" : "system", n2, lv.older_ma, lv.younger_ma);
 		}
 	}
 	if (im->nproblems)
@@ -381,8 +387,10 @@ static int import_age(importer *im, occ *o)
 			o->age = text;
 			if (older > text.older_ma + tol || younger < text.younger_ma - tol) {
 				o->conflict = 1;
-				append_note(o->note, sizeof o->note, "age conflict: numbers %g-%g Ma lie outside %s-%s (%g-%g Ma) by more than %g Myr; the numbers are stored",
-					older, younger, text.from, text.to, text.older_ma, text.younger_ma, tol);
+				char n1[300];
+				span_name(&text, n1, sizeof n1);
+				append_note(o->note, sizeof o->note, "age conflict: numbers %g-%g Ma lie outside %s (%g-%g Ma) by more than %g Myr; the numbers are stored",
+					older, younger, n1, text.older_ma, text.younger_ma, tol);
 			}
 		} else {
 			memset(&o->age, 0, sizeof o->age);
@@ -556,9 +564,10 @@ static int import_coords(importer *im, occ *o)
 /* ---- localities ------------------------------------------------------------ */
 
 /*
- * Finds or creates the locality of a row: one per (name, country,
- * coordinates). Kept behind this one function so the locality module can
- * take over. A row with no name, no country and no coordinates has no
+ * The locality of a row, through the locality module (which keeps one
+ * locality per name and country and records every coordinate pair given).
+ * A small cache in front skips rows repeating the same name, country and
+ * coordinates. A row with no name, no country and no coordinates has no
  * locality.
  */
 static int import_locality(importer *im, occ *o, bc_err *err)
@@ -579,38 +588,14 @@ static int import_locality(importer *im, occ *o, bc_err *err)
 			o->locality = im->locs[i].fid;
 			return BC_OK;
 		}
-	sqlite3_stmt *st = im->st_locf;
-	sqlite3_reset(st);
-	bc_db__bind_text(st, ":name", name);
-	bc_db__bind_text(st, ":country", country);
-	bc_db__bind_double(st, ":lon", o->has_coords ? o->lon : NAN);
-	bc_db__bind_double(st, ":lat", o->has_coords ? o->lat : NAN);
-	int step = sqlite3_step(st);
-	if (step == SQLITE_ROW) {
-		o->locality = sqlite3_column_int64(st, 0);
-	} else if (step != SQLITE_DONE) {
-		return bc_db__error(im->db, err, "finding a locality");
-	} else {
-		st = im->st_loci;
-		sqlite3_reset(st);
-		unsigned char geom[29];
-		if (o->has_coords) {
-			bc_geo__gpkg_point(o->lon, o->lat, geom);
-			sqlite3_bind_blob(st, sqlite3_bind_parameter_index(st, ":geom"), geom, sizeof geom, SQLITE_TRANSIENT);
-		} else {
-			sqlite3_bind_null(st, sqlite3_bind_parameter_index(st, ":geom"));
-		}
-		bc_db__bind_text(st, ":name", name);
-		bc_db__bind_text(st, ":country", country);
-		bc_db__bind_double(st, ":lon", o->has_coords ? o->lon : NAN);
-		bc_db__bind_double(st, ":lat", o->has_coords ? o->lat : NAN);
-		bc_db__bind_text(st, ":verbatim", im->cell[BC_T_VERBATIM_COORDS]);
-		bc_db__bind_text(st, ":srs", im->cell[BC_T_VERBATIM_SRS]);
-		bc_db__bind_double(st, ":uncertainty", o->unc);
-		if (sqlite3_step(st) != SQLITE_DONE)
-			return bc_db__error(im->db, err, "storing a locality");
-		o->locality = sqlite3_last_insert_rowid(bc_db__sqlite(im->db));
-	}
+	bc_locality_input in = {
+		name, country, im->cell[BC_T_FORMATION],
+		o->has_coords ? o->lon : NAN, o->has_coords ? o->lat : NAN,
+		im->cell[BC_T_VERBATIM_COORDS], im->cell[BC_T_VERBATIM_SRS], o->unc, im->batch, im->line,
+	};
+	int rc = bc_locality__get_or_create(im->loc, &in, &o->locality, err);
+	if (rc)
+		return rc;
 	if (im->nlocs >= LOC_CACHE_SLOTS * 3 / 4) {
 		for (size_t i = 0; i < LOC_CACHE_SLOTS; i++) {
 			free(im->locs[i].key);
@@ -870,8 +855,7 @@ static int prepare_all(importer *im, bc_err *err)
 	int rc;
 	if ((rc = bc_db__prepare(im->db, &im->st_occ, sql_insert_occ, err)) ||
 		(rc = bc_db__prepare(im->db, &im->st_q, sql_insert_quarantine, err)) ||
-		(rc = bc_db__prepare(im->db, &im->st_locf, sql_find_locality, err)) ||
-		(rc = bc_db__prepare(im->db, &im->st_loci, sql_insert_locality, err)))
+		(rc = bc_locality__cache_new(&im->loc, im->db, err)))
 		return rc;
 	for (int p = 0; p < P_N; p++)
 		if (!(im->occ_idx[p] = sqlite3_bind_parameter_index(im->st_occ, occ_params[p])))
@@ -896,8 +880,7 @@ static void importer_free(importer *im)
 	bc_geo__free(im->geo);
 	sqlite3_finalize(im->st_occ);
 	sqlite3_finalize(im->st_q);
-	sqlite3_finalize(im->st_locf);
-	sqlite3_finalize(im->st_loci);
+	bc_locality__cache_free(im->loc);
 	bc__buf_free(&im->scratch);
 	bc__buf_free(&im->extra);
 	bc__buf_free(&im->raw);
@@ -1017,9 +1000,9 @@ int bc_import_file(bc_import_result *out, bc_db *db, const char *path, const bc_
 	/* finalize before COMMIT/ROLLBACK so no statement is left pending */
 	sqlite3_finalize(im.st_occ);
 	sqlite3_finalize(im.st_q);
-	sqlite3_finalize(im.st_locf);
-	sqlite3_finalize(im.st_loci);
-	im.st_occ = im.st_q = im.st_locf = im.st_loci = NULL;
+	bc_locality__cache_free(im.loc);
+	im.st_occ = im.st_q = NULL;
+	im.loc = NULL;
 	if (im.o->dry_run) {
 		bc_db__rollback(db);
 		in_tx = 0;
