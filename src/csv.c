@@ -299,7 +299,10 @@ static int csv_fill(bc_csv *c, bc_err *err)
 		if (n == 0) {
 			c->eof = 1;
 			if (c->parser_ready) {
-				if (csv_fini(&c->p, cb_field, cb_record, c) != 0)
+				/* libcsv only reports an unclosed quote at the end in
+				 * strict mode; its state 2 (FIELD_BEGUN in libcsv.c) with
+				 * `quoted` set means a quoted field is still open. */
+				if ((c->p.quoted && c->p.pstate == 2) || csv_fini(&c->p, cb_field, cb_record, c) != 0)
 					return bc_err_set(err, BC_EINVALID, "%s:%ld: quoting: a quoted field starts on this line and is never closed (unmatched \")",
 						c->name, c->build.n || c->building ? c->build.line : c->next_start);
 				if (c->oom)
