@@ -914,8 +914,6 @@ int bc_import_file(bc_import_result *out, bc_db *db, const char *path, const bc_
 	int rc = bc__sha256_file(path, sha, err);
 	if (rc)
 		goto done;
-	if ((rc = refuse_duplicate(db, im.name, sha, err)))
-		goto done;
 	/* vocabularies, map, chart */
 	if ((rc = bc_vocab__builtin(&im.env, BC_VOCAB_ENVIRONMENTS, err)) ||
 		(rc = bc_vocab__builtin(&im.pres, BC_VOCAB_PRESERVATION, err)) ||
@@ -930,6 +928,8 @@ int bc_import_file(bc_import_result *out, bc_db *db, const char *path, const bc_
 	if ((rc = bc_timescale_get(&im.chart, db, im.o->timescale, err)) || (rc = bc_resolver_new(&im.res, im.chart, err)))
 		goto done;
 	snprintf(out->timescale, sizeof out->timescale, "%s", bc_chart_name(im.chart));
+	if ((rc = refuse_duplicate(db, im.name, sha, err)))
+		goto done;
 	im.ages = bc__calloc(AGE_CACHE_SLOTS, sizeof *im.ages);
 	im.locs = bc__calloc(LOC_CACHE_SLOTS, sizeof *im.locs);
 	if (!im.ages || !im.locs) {
