@@ -281,11 +281,6 @@ static int csv_is_space(unsigned char ch)
 	return 0; /* spaces are data; we trim where a column's meaning allows it */
 }
 
-static int csv_is_term(unsigned char ch)
-{
-	return ch == '\n' || ch == '\r';
-}
-
 /* Feeds physical lines until at least one record is queued or input ends. */
 static int csv_fill(bc_csv *c, bc_err *err)
 {
@@ -333,8 +328,7 @@ static int csv_fill(bc_csv *c, bc_err *err)
 			if (!c->delim)
 				c->delim = csv_detect((const char *)s, len);
 			csv_set_delim(&c->p, (unsigned char)c->delim);
-			csv_set_space_func(&c->p, csv_is_space);
-			csv_set_term_func(&c->p, csv_is_term);
+			csv_set_space_func(&c->p, csv_is_space); /* libcsv's default line ends (CR, LF) stay */
 		}
 		if (csv_parse(&c->p, s, len, cb_field, cb_record, c) != len)
 			return bc_err_set(err, c->oom || csv_error(&c->p) == CSV_ENOMEM ? BC_ENOMEM : BC_EINVALID, "%s:%ld: %s",

@@ -56,6 +56,33 @@ static uint64_t hash_str(const char *s)
 	return h;
 }
 
+/* Builds a cache key "a<US>b<US>hex(doubles)" without printf (this runs
+ * once per row). Returns -1 when it does not fit: the caller then skips
+ * the cache, since a cut key could match another row's. */
+static int join_key(char *out, size_t cap, const char *a, const char *b, const double *d, size_t nd)
+{
+	static const char hex[] = "0123456789abcdef";
+	size_t na = strlen(a), nb = strlen(b), k;
+	if (na + nb + 2 + nd * 17 + 1 > cap)
+		return -1;
+	memcpy(out, a, na);
+	k = na;
+	out[k++] = '\x1f';
+	memcpy(out + k, b, nb);
+	k += nb;
+	for (size_t i = 0; d && i < nd; i++) {
+		unsigned char bytes[sizeof(double)];
+		memcpy(bytes, &d[i], sizeof bytes);
+		out[k++] = '\x1f';
+		for (size_t j = 0; j < sizeof bytes; j++) {
+			out[k++] = hex[bytes[j] >> 4];
+			out[k++] = hex[bytes[j] & 15];
+		}
+	}
+	out[k] = '\0';
+	return 0;
+}
+
 /* ---- the importer --------------------------------------------------- */
 
 typedef struct occ {
@@ -244,7 +271,8 @@ static int number_cell(importer *im, int term, double *out)
 static int age_cached(importer *im, const char *e, const char *l, bc_age *out)
 {
 	char keybuf[600];
-	snprintf(keybuf, sizeof keybuf, "%s\x1f%s", e, l);
+	if (join_key(keybuf, sizeof keybuf, e, l, NULL, 0) != 0)
+		return bc_age_resolve_pair(im->res, e, l, out);
 	uint64_t h = hash_str(keybuf);
 	size_t mask = AGE_CACHE_SLOTS - 1;
 	for (size_t i = (size_t)h & mask;; i = (i + 1) & mask) {
@@ -577,13 +605,15 @@ static int import_locality(importer *im, occ *o, bc_err *err)
 	if (!*name && !*country && !o->has_coords)
 		return BC_OK;
 	char key[1200];
-	if (o->has_coords)
-		snprintf(key, sizeof key, "%s\x1f%s\x1f%.17g\x1f%.17g", name, country, o->lon, o->lat);
-	else
-		snprintf(key, sizeof key, "%s\x1f%s\x1f-\x1f-", name, country);
-	uint64_t h = hash_str(key);
+	double xy[2] = {o->lon, o->lat};
+	char nf[600];
+	/* the formation is part of the key: the module matches unnamed
+	 * localities on it and gives a named one the first formation seen */
+	int cacheable = join_key(nf, sizeof nf, name, im->cell[BC_T_FORMATION], NULL, 0) == 0 &&
+		join_key(key, sizeof key, nf, country, o->has_coords ? xy : NULL, 2) == 0;
+	uint64_t h = cacheable ? hash_str(key) : 0;
 	size_t mask = LOC_CACHE_SLOTS - 1;
-	for (size_t i = (size_t)h & mask; im->locs[i].key; i = (i + 1) & mask)
+	for (size_t i = (size_t)h & mask; cacheable && im->locs[i].key; i = (i + 1) & mask)
 		if (strcmp(im->locs[i].key, key) == 0) {
 			o->locality = im->locs[i].fid;
 			return BC_OK;
@@ -594,7 +624,7 @@ static int import_locality(importer *im, occ *o, bc_err *err)
 		im->cell[BC_T_VERBATIM_COORDS], im->cell[BC_T_VERBATIM_SRS], o->unc, im->batch, im->line,
 	};
 	int rc = bc_locality__get_or_create(im->loc, &in, &o->locality, err);
-	if (rc)
+	if (rc || !cacheable)
 		return rc;
 	if (im->nlocs >= LOC_CACHE_SLOTS * 3 / 4) {
 		for (size_t i = 0; i < LOC_CACHE_SLOTS; i++) {
@@ -863,6 +893,70 @@ static int prepare_all(importer *im, bc_err *err)
 	return BC_OK;
 }
 
+/*
+ * Bulk loads: when the new rows will outnumber those already stored, the
+ * indexes on occurrences are dropped inside the transaction and rebuilt
+ * from their own stored definitions before COMMIT (SQLite builds an index
+ * by sorting, much faster than row-by-row inserts). All or nothing, like
+ * the rest of the import.
+ */
+typedef struct saved_indexes {
+	char *sql[16];
+	size_t n;
+} saved_indexes;
+
+static int indexes_drop(bc_db *db, saved_indexes *si, bc_err *err)
+{
+	sqlite3_stmt *st = NULL;
+	char *names[16] = {0};
+	int rc = bc_db__prepare(db, &st,
+		"SELECT name, sql FROM sqlite_master WHERE type = 'index' AND tbl_name = 'occurrences' AND sql IS NOT NULL", err);
+	if (rc)
+		return rc;
+	while (si->n < 16 && sqlite3_step(st) == SQLITE_ROW) {
+		names[si->n] = bc__strdup((const char *)sqlite3_column_text(st, 0));
+		si->sql[si->n] = bc__strdup((const char *)sqlite3_column_text(st, 1));
+		if (!names[si->n] || !si->sql[si->n]) {
+			free(names[si->n]);
+			free(si->sql[si->n]);
+			si->sql[si->n] = NULL;
+			rc = bc_err_set(err, BC_ENOMEM, "out of memory");
+			break;
+		}
+		si->n++;
+	}
+	sqlite3_finalize(st);
+	for (size_t i = 0; i < si->n; i++) {
+		if (rc == BC_OK) {
+			bc_buf q = {0};
+			bc__buf_puts(&q, "DROP INDEX ");
+			bc__buf_puts(&q, "\"");
+			for (const char *c = names[i]; *c; c++)
+				bc__buf_append(&q, c, *c == '"' ? 0 : 1);
+			bc__buf_puts(&q, "\"");
+			rc = q.data ? bc_db__exec(db, q.data, err) : bc_err_set(err, BC_ENOMEM, "out of memory");
+			bc__buf_free(&q);
+		}
+		free(names[i]);
+	}
+	return rc;
+}
+
+static int indexes_restore(bc_db *db, saved_indexes *si, bc_err *err)
+{
+	int rc = BC_OK;
+	for (size_t i = 0; i < si->n && rc == BC_OK; i++)
+		rc = bc_db__exec(db, si->sql[i], err);
+	return rc;
+}
+
+static void indexes_free(saved_indexes *si)
+{
+	for (size_t i = 0; i < si->n; i++)
+		free(si->sql[i]);
+	si->n = 0;
+}
+
 static void importer_free(importer *im)
 {
 	bc_csv__free(im->csv);
@@ -910,6 +1004,7 @@ int bc_import_file(bc_import_result *out, bc_db *db, const char *path, const bc_
 	bc_buf options = {0};
 	int64_t vocab_id;
 	sqlite3_stmt *st = NULL;
+	saved_indexes saved = {{0}, 0};
 
 	int rc = bc__sha256_file(path, sha, err);
 	if (rc)
@@ -941,6 +1036,10 @@ int bc_import_file(bc_import_result *out, bc_db *db, const char *path, const bc_
 		goto done;
 	if ((rc = read_header(&im, err)))
 		goto done;
+	/* A fixed, larger page cache for the one big transaction: fewer
+	 * spills of dirty pages; memory still does not grow with the file. */
+	if ((rc = bc_db__exec(db, "PRAGMA cache_size = -32768", err)))
+		goto done;
 	if ((rc = bc_db__begin(db, err)))
 		goto done;
 	in_tx = 1;
@@ -966,6 +1065,19 @@ int bc_import_file(bc_import_result *out, bc_db *db, const char *path, const bc_
 	im.batch = sqlite3_last_insert_rowid(bc_db__sqlite(db));
 	sqlite3_finalize(st);
 	st = NULL;
+	{
+		/* about 150 bytes per row in a typical sheet (common practice, no source) */
+		uint64_t expect = bc_csv__size(im.csv) / 150;
+		double stored = 0;
+		sqlite3_stmt *cnt = NULL;
+		if ((rc = bc_db__prepare(db, &cnt, "SELECT coalesce(max(occurrence_pk), 0) FROM occurrences", err)))
+			goto done;
+		if (sqlite3_step(cnt) == SQLITE_ROW)
+			stored = sqlite3_column_double(cnt, 0);
+		sqlite3_finalize(cnt);
+		if (expect > 100000 && (double)expect > stored && (rc = indexes_drop(db, &saved, err)))
+			goto done;
+	}
 	if ((rc = prepare_all(&im, err)))
 		goto done;
 	while ((rc = bc_csv__next(im.csv, err)) == 1) {
@@ -1003,6 +1115,8 @@ int bc_import_file(bc_import_result *out, bc_db *db, const char *path, const bc_
 	bc_locality__cache_free(im.loc);
 	im.st_occ = im.st_q = NULL;
 	im.loc = NULL;
+	if ((rc = indexes_restore(db, &saved, err)))
+		goto done;
 	if (im.o->dry_run) {
 		bc_db__rollback(db);
 		in_tx = 0;
@@ -1018,5 +1132,6 @@ done:
 	if (in_tx)
 		bc_db__rollback(db);
 	bc__buf_free(&options);
+	indexes_free(&saved);
 	return rc;
 }
