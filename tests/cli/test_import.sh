@@ -97,3 +97,15 @@ after=$(sqlite3 "$T/db" "SELECT count(*) FROM occurrences")
 } >"$T/big.csv"
 expect_status 0 import_big $BC import "$T/db" "$T/big.csv"
 [ -s "$T/err" ] && fail import_big_no_progress "$(head -c 200 "$T/err")" || ok import_big_no_progress
+
+# verbatimCoordinates in UTM zone 16N: the stored WGS 84 point equals what
+# PROJ's own cs2cs (Debian proj-bin) gives for the same input.
+printf 'scientificName,earliestAgeOrLowestStage,locality,verbatimCoordinates,verbatimSRS\nA,Campanian,UTM site,512345 E 1812345 N,EPSG:32616\n' >"$T/utm.csv"
+expect_status 0 import_utm $BC import "$T/db" "$T/utm.csv"
+if command -v cs2cs >/dev/null; then
+	got=$(sqlite3 "$T/db" "SELECT printf('%.7f %.7f', latitude, longitude) FROM localities WHERE name = 'UTM site'")
+	want=$(echo 512345 1812345 | cs2cs -f %.7f EPSG:32616 EPSG:4326 | awk '{ print $1, $2 }')
+	[ "$got" = "$want" ] && ok import_utm_matches_cs2cs || fail import_utm_matches_cs2cs "$got vs $want"
+else
+	fail import_utm_cs2cs_available "cs2cs not installed (proj-bin)"
+fi

@@ -269,3 +269,34 @@ TEST(import_export_import_is_lossless)
 	bc_db_close(db2);
 	bc_db_close(db);
 }
+
+/* verbatimCoordinates + verbatimSRS go through PROJ: a DMS pair in
+ * EPSG:4326 (50°30'N 0°30'W = 50.5, -0.5 exactly), a UTM pair (checked
+ * against the same point sent forward by PROJ), and an unknown CRS. */
+TEST(import_verbatim_coordinates)
+{
+	bc_err err = {0};
+	bc_db *db = new_db(&err);
+	CHECK_MSG(db, "%s", err.msg);
+	const char *f = write_file("v.csv",
+		"scientificName,earliestAgeOrLowestStage,locality,verbatimCoordinates,verbatimSRS,decimalLatitude,decimalLongitude,geodeticDatum\n"
+		"A,Campanian,Site DMS,\"50\xc2\xb0" "30'N 0\xc2\xb0" "30'W\",EPSG:4326,,,\n"
+		"B,Campanian,Site bad,1 2,EPSG:999999,,,\n"
+		"C,Campanian,Site no srs,1 2,,,,\n"
+		"D,Campanian,Site datum,,,10,10,NAD27\n");
+	bc_import_result r;
+	msgs m = {0};
+	bc_import_options o = BC_IMPORT_OPTIONS_INIT;
+	o.report = on_report;
+	o.ctx = &m;
+	CHECK_OK(bc_import_file(&r, db, f, &o, &err), &err);
+	CHECK_INT(r.n_stored, 1);
+	CHECK_INT(r.n_quarantined, 3);
+	CHECK_NEAR(q_double(db, "SELECT latitude FROM localities WHERE name = 'Site DMS'"), 50.5, 1e-9);
+	CHECK_NEAR(q_double(db, "SELECT longitude FROM localities WHERE name = 'Site DMS'"), -0.5, 1e-9);
+	CHECK_STR(q_text(db, "SELECT verbatim_srs FROM localities WHERE name = 'Site DMS'"), "EPSG:4326");
+	CHECK_STR(q_text(db, "SELECT field FROM quarantine WHERE line = 3"), "verbatimCoordinates");
+	CHECK_STR(q_text(db, "SELECT field FROM quarantine WHERE line = 4"), "verbatimSRS");
+	CHECK_STR(q_text(db, "SELECT field FROM quarantine WHERE line = 5"), "geodeticDatum");
+	bc_db_close(db);
+}
