@@ -129,6 +129,7 @@ typedef struct importer {
 	bc_buf extra, raw, reason;
 	char field[128];
 	int nproblems;
+	int oom;          /* an allocation for the current row failed */
 	age_slot *ages;
 	size_t nages;
 	loc_slot *locs;
@@ -186,14 +187,17 @@ static size_t put_cell(importer *im, const char *s, int trim)
 			n--;
 	}
 	size_t off = im->scratch.len;
-	bc__buf_append(&im->scratch, s, n);
-	bc__buf_append(&im->scratch, "", 1);
+	if (bc__buf_append(&im->scratch, s, n) || bc__buf_append(&im->scratch, "", 1)) {
+		im->oom = 1;
+		return 0;
+	}
 	return off;
 }
 
 static int gather_cells(importer *im)
 {
 	im->scratch.len = 0;
+	im->oom = 0;
 	size_t nf = bc_csv__nfields(im->csv);
 	size_t depth_off = (size_t)-1;
 	for (int t = 0; t < BC_TERM_COUNT; t++) {
@@ -205,14 +209,15 @@ static int gather_cells(importer *im)
 	}
 	if (im->plan.depth_col >= 0 && (size_t)im->plan.depth_col < nf)
 		depth_off = put_cell(im, bc_csv__field(im->csv, (size_t)im->plan.depth_col), 1);
-	if (!im->scratch.data)
+	if (!im->scratch.data || im->oom)
 		return BC_ENOMEM;
 	for (int t = 0; t < BC_TERM_COUNT; t++)
 		im->cell[t] = im->scratch.data + im->cell_off[t];
 	im->depth_cell = depth_off == (size_t)-1 ? "" : im->scratch.data + depth_off;
 	/* extra columns: a JSON object of header -> cell, empty cells left out */
 	im->extra.len = 0;
-	bc__buf_puts(&im->extra, "{");
+	if (bc__buf_puts(&im->extra, "{"))
+		return BC_ENOMEM;
 	int any = 0;
 	for (size_t i = 0; i < im->nh && i < nf; i++) {
 		if (im->plan.col_term[i] >= 0)
@@ -224,11 +229,9 @@ static int gather_cells(importer *im)
 			v++;
 			im->r->n_unguarded++;
 		}
-		if (any++)
-			bc__buf_puts(&im->extra, ",");
-		bc__buf_json_string(&im->extra, im->headers[i]);
-		bc__buf_puts(&im->extra, ":");
-		bc__buf_json_string(&im->extra, v);
+		if ((any++ && bc__buf_puts(&im->extra, ",")) || bc__buf_json_string(&im->extra, im->headers[i]) ||
+			bc__buf_puts(&im->extra, ":") || bc__buf_json_string(&im->extra, v))
+			return BC_ENOMEM;
 	}
 	return bc__buf_puts(&im->extra, "}") ? BC_ENOMEM : BC_OK;
 }
@@ -238,17 +241,16 @@ static int raw_json(importer *im)
 {
 	size_t nf = bc_csv__nfields(im->csv);
 	im->raw.len = 0;
-	bc__buf_puts(&im->raw, "{");
+	if (bc__buf_puts(&im->raw, "{"))
+		return BC_ENOMEM;
 	for (size_t i = 0; i < nf; i++) {
 		char extra_name[64];
 		const char *h = i < im->nh ? im->headers[i] : extra_name;
 		if (i >= im->nh)
 			snprintf(extra_name, sizeof extra_name, "(column %zu)", i + 1);
-		if (i)
-			bc__buf_puts(&im->raw, ",");
-		bc__buf_json_string(&im->raw, h);
-		bc__buf_puts(&im->raw, ":");
-		bc__buf_json_string(&im->raw, bc_csv__field(im->csv, i));
+		if ((i && bc__buf_puts(&im->raw, ",")) || bc__buf_json_string(&im->raw, h) || bc__buf_puts(&im->raw, ":") ||
+			bc__buf_json_string(&im->raw, bc_csv__field(im->csv, i)))
+			return BC_ENOMEM;
 	}
 	return bc__buf_puts(&im->raw, "}") ? BC_ENOMEM : BC_OK;
 }
@@ -727,8 +729,8 @@ static int store_row(importer *im, occ *o, bc_err *err)
 static int quarantine_row(importer *im, bc_err *err)
 {
 	int rc = raw_json(im);
-	if (rc)
-		return bc_err_set(err, rc, "out of memory");
+	if (rc || !im->reason.data)
+		return bc_err_set(err, BC_ENOMEM, "out of memory");
 	sqlite3_stmt *st = im->st_q;
 	sqlite3_reset(st);
 	bc_db__bind_int64(st, ":batch", im->batch);
@@ -960,7 +962,7 @@ static void indexes_free(saved_indexes *si)
 static void importer_free(importer *im)
 {
 	bc_csv__free(im->csv);
-	for (size_t i = 0; i < im->nh; i++)
+	for (size_t i = 0; im->headers && i < im->nh; i++)
 		free(im->headers[i]);
 	free(im->headers);
 	if (im->plan_bound)
