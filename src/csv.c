@@ -70,10 +70,11 @@ static int rec_add(csv_rec *r, const char *s, size_t n)
 		r->cap = nc;
 	}
 	r->off[r->n++] = r->text.len;
-	if (bc__buf_append(&r->text, s ? s : "", s ? n : 0) || bc__buf_append(&r->text, "", 1))
+	/* bc__buf_append always leaves a NUL after the data (it reserves room
+	 * for it): counting that NUL in makes it the field separator */
+	if (bc__buf_append(&r->text, s ? s : "", s ? n : 0))
 		return BC_ENOMEM;
-	/* bc__buf_append keeps a NUL after the data; the explicit one above
-	 * separates fields. */
+	r->text.len++;
 	return BC_OK;
 }
 

@@ -187,10 +187,11 @@ static size_t put_cell(importer *im, const char *s, int trim)
 			n--;
 	}
 	size_t off = im->scratch.len;
-	if (bc__buf_append(&im->scratch, s, n) || bc__buf_append(&im->scratch, "", 1)) {
+	if (bc__buf_append(&im->scratch, s, n)) {
 		im->oom = 1;
 		return 0;
 	}
+	im->scratch.len++; /* keep the NUL bc__buf_append wrote: it ends the cell */
 	return off;
 }
 
