@@ -578,6 +578,26 @@ int bc_plot_shift(const char *path, const bc_plot_bin *bins, size_t n, const bc_
  */
 void bc_plot_cleanup(void);
 
+/**
+ * The default caption of a shift figure, in words: the selection, the
+ * binning and span rule, the zoning, the chart, how many occurrences were
+ * counted and why others were left out. `opts` are the options `s` was
+ * computed with; `chart_name` names the chart of the timescale bar (NULL:
+ * none). `*out` is the caller's; free it with free().
+ */
+int bc_plot_shift_caption(char **out, const bc_shift *s, const bc_shift_options *opts, const char *chart_name,
+			  bc_err *err);
+
+/**
+ * Draws a computed shift table: its bins one to one (has_frac when a bin
+ * has shallow or deep occurrences; no resampling band yet), the interval
+ * level of `opts`, and, when `opt->caption` is NULL, the caption of
+ * bc_plot_shift_caption(). Otherwise as bc_plot_shift(). Nothing is kept
+ * from the arguments.
+ */
+int bc_plot_shift_table(const char *path, const bc_shift *s, const bc_shift_options *opts, const bc_chart *chart,
+			const bc_plot_options *opt, bc_err *err);
+
 /* == end of plot section == */
 
 #ifdef __cplusplus

@@ -1192,3 +1192,144 @@ void bc_plot_cleanup(void)
 	if (fini)
 		fini();
 }
+
+/* ---- a computed shift table as a figure -------------------------------- */
+
+int bc_plot__selection_words(bc_buf *b, const bc_shift_options *o)
+{
+	size_t start = b->len;
+	int rc = BC_OK;
+	if (o->group)
+		rc |= bc__buf_printf(b, "%sgroup %s", b->len > start ? ", " : "", o->group);
+	if (o->taxon)
+		rc |= bc__buf_printf(b, "%staxon %s", b->len > start ? ", " : "", o->taxon);
+	if (o->preservation)
+		rc |= bc__buf_printf(b, "%spreservation %s", b->len > start ? ", " : "", o->preservation);
+	if (o->has_region)
+		rc |= bc__buf_printf(b, "%sregion %g,%g,%g,%g (W,S,E,N)", b->len > start ? ", " : "",
+			o->region[0], o->region[1], o->region[2], o->region[3]);
+	if (b->len == start)
+		rc |= bc__buf_puts(b, "all occurrences");
+	return rc ? BC_ENOMEM : BC_OK;
+}
+
+int bc_plot__zoning_words(bc_buf *b, const bc_shift_options *o)
+{
+	int rc = BC_OK;
+	if (!o->n_zones)
+		return bc__buf_puts(b, "no depth boundary");
+	rc |= bc__buf_printf(b, "shallow above %g m, deep at or below %g m (a depth range crossing %g m counted as straddling)",
+		o->zones[0], o->zones[0], o->zones[0]);
+	if (o->zones_given && o->n_zones > 1) {
+		rc |= bc__buf_puts(b, "; further boundaries at ");
+		for (size_t i = 1; i < o->n_zones; i++)
+			rc |= bc__buf_printf(b, "%s%g", i > 1 ? ", " : "", o->zones[i]);
+		rc |= bc__buf_puts(b, " m");
+	}
+	return rc ? BC_ENOMEM : BC_OK;
+}
+
+int bc_plot_shift_caption(char **out, const bc_shift *s, const bc_shift_options *opts, const char *chart_name,
+			  bc_err *err)
+{
+	bc_buf b = {0};
+	int rc = BC_OK;
+	const bc_shift_summary *u = bc_shift_summary_get(s);
+	static const char *const rank[] = {"stages", "epochs", "periods"};
+	*out = NULL;
+	rc |= bc__buf_printf(&b, "Deep share (deep / (shallow + deep)) with %g %% Wilson intervals; selection: ", 100.0 * opts->level);
+	rc |= bc_plot__selection_words(&b, opts);
+	switch (opts->bins) {
+	case BC_BINS_WIDTH:
+		rc |= bc__buf_printf(&b, "; bins of %g Myr", opts->bin_width);
+		break;
+	case BC_BINS_FILE:
+		rc |= bc__buf_printf(&b, "; bins from %s", opts->bins_file ? opts->bins_file : "a file");
+		break;
+	default:
+		rc |= bc__buf_printf(&b, "; bins: %s of chart %s", rank[opts->bins],
+			opts->timescale ? opts->timescale : chart_name ? chart_name : "(default)");
+		break;
+	}
+	switch (opts->span) {
+	case BC_SPAN_ALL:
+		rc |= bc__buf_puts(&b, ", an age range counted in every bin it overlaps");
+		break;
+	case BC_SPAN_SPLIT:
+		rc |= bc__buf_puts(&b, ", an age range divided among the bins it overlaps");
+		break;
+	case BC_SPAN_MAX:
+		rc |= bc__buf_printf(&b, ", age ranges longer than %g Myr left out, the rest in the bin holding most of the range", opts->span_max_myr);
+		break;
+	default:
+		rc |= bc__buf_puts(&b, ", an age range in the bin holding most of it");
+		break;
+	}
+	rc |= bc__buf_puts(&b, "; ");
+	rc |= bc_plot__zoning_words(&b, opts);
+	rc |= bc__buf_printf(&b, "; %zu of %zu selected occurrences counted", u->n_used, u->n_selected);
+	const struct { size_t n; const char *why; } ex[] = {
+		{u->n_no_coordinates, "without coordinates"}, {u->n_outside_region, "outside the region"},
+		{u->n_no_depth, "without palaeodepth"}, {u->n_too_long, "with too long an age range"},
+		{u->n_outside_bins, "outside every bin"},
+	};
+	size_t k = 0;
+	for (size_t i = 0; i < sizeof ex / sizeof ex[0]; i++)
+		if (ex[i].n)
+			rc |= bc__buf_printf(&b, "%s%zu %s", k++ ? ", " : " (left out: ", ex[i].n, ex[i].why);
+	if (k)
+		rc |= bc__buf_puts(&b, ")");
+	if (chart_name && (opts->bins > BC_BINS_PERIOD || (opts->timescale && strcmp(opts->timescale, chart_name) != 0)))
+		rc |= bc__buf_printf(&b, ". Timescale bar: chart %s.", chart_name);
+	else
+		rc |= bc__buf_puts(&b, ".");
+	if (rc || !b.data) {
+		bc__buf_free(&b);
+		return bc_err_set(err, BC_ENOMEM, "out of memory");
+	}
+	*out = b.data;
+	return BC_OK;
+}
+
+int bc_plot_shift_table(const char *path, const bc_shift *s, const bc_shift_options *opts, const bc_chart *chart,
+			const bc_plot_options *opt, bc_err *err)
+{
+	bc_plot_options o = BC_PLOT_OPTIONS_INIT;
+	bc_plot_format fmt;
+	char *caption = NULL;
+	size_t n = bc_shift_bin_count(s);
+	int rc = bc_plot_format_from_path(&fmt, path, err);
+	if (rc != BC_OK)
+		return rc;
+	if (opt)
+		o = *opt;
+	o.level = opts->level;
+	bc_plot_bin *bins = bc__calloc(n ? n : 1, sizeof *bins);
+	if (!bins)
+		return bc_err_set(err, BC_ENOMEM, "out of memory");
+	for (size_t i = 0; i < n; i++) {
+		const bc_shift_bin *x = bc_shift_bin_at(s, i);
+		bc_plot_bin *b = &bins[i];
+		b->label = x->name;
+		b->older_ma = x->older_ma;
+		b->younger_ma = x->younger_ma;
+		b->n = x->n;
+		b->n_shallow = x->n_shallow;
+		b->n_deep = x->n_deep;
+		b->n_straddle = x->n_straddle;
+		b->has_frac = x->n_shallow + x->n_deep > 0;
+		b->frac = x->frac_deep;
+		b->lo = x->frac_deep_lo;
+		b->hi = x->frac_deep_hi;
+		b->has_band = 0; /* resampling percentiles are not part of the table yet */
+	}
+	if (!o.caption) {
+		rc = bc_plot_shift_caption(&caption, s, opts, chart ? bc_chart_name(chart) : NULL, err);
+		o.caption = caption;
+	}
+	if (rc == BC_OK)
+		rc = bc_plot_shift(path, bins, n, chart, &o, err);
+	free(caption);
+	free(bins);
+	return rc;
+}
