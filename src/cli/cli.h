@@ -89,6 +89,7 @@ int cmd_refs(int argc, char **argv);
 int cmd_check(int argc, char **argv);
 int cmd_shift(int argc, char **argv);
 int cmd_plot(int argc, char **argv);
+int cmd_ranges(int argc, char **argv);
 int cmd_export(int argc, char **argv);
 
 #endif
