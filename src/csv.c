@@ -193,31 +193,50 @@ void bc_csv__free(bc_csv *c)
 	free(c);
 }
 
-/* Reads one physical line (with its '\n' if any) into c->line; returns its
- * length, 0 at the end, -1 on a read error. */
+/* Reads one physical line (with its line end if any) into c->line; returns
+ * its length, 0 at the end, -1 on a read error. A line ends at LF, CRLF, or
+ * a bare CR (files saved with classic Mac line ends), so every record's
+ * line number is right. */
 static long csv_read_line(bc_csv *c)
 {
-	if (c->f) {
-		ssize_t n = getline(&c->line, &c->line_cap, c->f);
-		if (n < 0)
-			return ferror(c->f) ? -1 : 0;
-		return (long)n;
+	size_t n = 0;
+	for (;;) {
+		int ch;
+		if (c->f) {
+			ch = getc_unlocked(c->f);
+			if (ch == EOF && ferror(c->f))
+				return -1;
+		} else {
+			ch = c->mem_pos < c->mem_len ? (unsigned char)c->mem[c->mem_pos++] : EOF;
+		}
+		if (ch == EOF)
+			break;
+		if (n + 3 > c->line_cap) { /* this byte, perhaps an LF after a CR, and the NUL */
+			size_t nc = c->line_cap ? c->line_cap * 2 : 256;
+			char *nb = bc__realloc(c->line, nc);
+			if (!nb)
+				return -2;
+			c->line = nb;
+			c->line_cap = nc;
+		}
+		c->line[n++] = (char)ch;
+		if (ch == '\n')
+			break;
+		if (ch == '\r') {
+			int next = c->f ? getc_unlocked(c->f) : (c->mem_pos < c->mem_len ? (unsigned char)c->mem[c->mem_pos] : EOF);
+			if (next != '\n') {
+				if (c->f && next != EOF)
+					ungetc(next, c->f);
+				break;
+			}
+			if (!c->f)
+				c->mem_pos++;
+			c->line[n++] = '\n';
+			break;
+		}
 	}
-	if (c->mem_pos >= c->mem_len)
-		return 0;
-	const char *s = c->mem + c->mem_pos;
-	const char *nl = memchr(s, '\n', c->mem_len - c->mem_pos);
-	size_t n = nl ? (size_t)(nl - s) + 1 : c->mem_len - c->mem_pos;
-	if (n + 1 > c->line_cap) {
-		char *nb = bc__realloc(c->line, n + 1);
-		if (!nb)
-			return -2;
-		c->line = nb;
-		c->line_cap = n + 1;
-	}
-	memcpy(c->line, s, n);
-	c->line[n] = '\0';
-	c->mem_pos += n;
+	if (n)
+		c->line[n] = '\0';
 	return (long)n;
 }
 
