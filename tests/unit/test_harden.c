@@ -3,6 +3,7 @@
  * error messages stay one printable line whatever text they quote.
  */
 #include "test.h"
+#include "csvio.h"
 
 #include <stdlib.h>
 
@@ -33,4 +34,33 @@ TEST(harden_err_truncation_keeps_utf8_whole)
 	strcpy(long_text + 1020, "\xe2\x88\x92 more");
 	bc_err_set(&err, BC_EINVALID, "%s", long_text);
 	CHECK_INT(strlen(err.msg), 1023); /* the whole minus sign fits */
+}
+
+/* Fuzz finding (fuzz_csv): a bare CR (classic Mac line end) ended a record
+ * but not a line, so every later record got the wrong line number. */
+TEST(harden_csv_bare_cr_counts_as_a_line_end)
+{
+	static const char text[] = "a,b\rx,1\ry,2\r\nz,3\n\"q\rq\",4\r";
+	bc_csv *c = NULL;
+	bc_err err = {0};
+	bc_csv_options o = {0};
+	CHECK_OK(bc_csv__open_mem(&c, "mac.csv", text, sizeof text - 1, &o, &err), &err);
+	static const long want[] = {1, 2, 3, 4, 5};
+	static const char *const first[] = {"a", "x", "y", "z", "q\rq"};
+	for (size_t i = 0; i < 5; i++) {
+		int rc = bc_csv__next(c, &err);
+		char why[256] = "";
+		if (rc != 1)
+			snprintf(why, sizeof why, "record %zu: rc %d: %s", i, rc, err.msg);
+		else if (bc_csv__line(c) != want[i] || strcmp(bc_csv__field(c, 0), first[i]) != 0)
+			snprintf(why, sizeof why, "record %zu: line %ld field '%s', expected line %ld field '%s'", i,
+				bc_csv__line(c), bc_csv__field(c, 0), want[i], first[i]);
+		if (why[0]) {
+			bc_csv__free(c);
+			CHECK_MSG(0, "%s", why);
+		}
+	}
+	int rc = bc_csv__next(c, &err);
+	bc_csv__free(c);
+	CHECK_INT(rc, 0);
 }
