@@ -49,7 +49,7 @@ TEST(harden_csv_bare_cr_counts_as_a_line_end)
 	static const char *const first[] = {"a", "x", "y", "z", "q\rq"};
 	for (size_t i = 0; i < 5; i++) {
 		int rc = bc_csv__next(c, &err);
-		char why[256] = "";
+		char why[1400] = "";
 		if (rc != 1)
 			snprintf(why, sizeof why, "record %zu: rc %d: %s", i, rc, err.msg);
 		else if (bc_csv__line(c) != want[i] || strcmp(bc_csv__field(c, 0), first[i]) != 0)
