@@ -567,6 +567,11 @@ int bc_refs_load(bc_refs_result *out, bc_db *db, const char *path, bc_import_rep
 	if (rc)
 		goto done;
 	bc__sha256_hex(data, len, sha);
+	/* The duplicate test runs under the write lock, so two loads of the
+	 * same file at once cannot both pass it. */
+	if ((rc = bc_db__begin(db, err)))
+		goto done;
+	in_tx = 1;
 	if ((rc = bc_db__prepare(db, &st, "SELECT batch_id, started_at FROM import_batches WHERE kind = 'references' AND sha256 = :sha", err)))
 		goto done;
 	bc_db__bind_text(st, ":sha", sha);
@@ -577,9 +582,6 @@ int bc_refs_load(bc_refs_result *out, bc_db *db, const char *path, bc_import_rep
 	}
 	sqlite3_finalize(st);
 	st = NULL;
-	if ((rc = bc_db__begin(db, err)))
-		goto done;
-	in_tx = 1;
 	if ((rc = bc_db__prepare(db, &st,
 		     "INSERT INTO import_batches (kind, file, sha256, tool_version) VALUES ('references', :file, :sha, :version)", err)))
 		goto done;

@@ -1046,6 +1046,10 @@ int bc_import_file(bc_import_result *out, bc_db *db, const char *path, const bc_
 	if ((rc = bc_db__begin(db, err)))
 		goto done;
 	in_tx = 1;
+	/* Again under the write lock: the same content may have been
+	 * imported by another process while this one waited for it. */
+	if ((rc = refuse_duplicate(db, im.name, sha, err)))
+		goto done;
 	if ((rc = bc_vocab__store(db, im.env, &vocab_id, err)) || (rc = bc_vocab__store(db, im.pres, &vocab_id, err)))
 		goto done;
 	if ((rc = options_json(&im, path, &options))) {
