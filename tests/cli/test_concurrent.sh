@@ -77,3 +77,88 @@ wait "$holder"
 integrity locked_integrity
 sqlite3 "$DB" .dump >"$T/after.sql"
 cmp -s "$T/before.sql" "$T/after.sql" && ok locked_db_unchanged || fail locked_db_unchanged "dump differs"
+
+# ------------------------------------------------------------------
+# Imports (a large file made here; every 8th row goes to the quarantine).
+# ------------------------------------------------------------------
+mkcsv() { # mkcsv FILE ROWS PREFIX
+	awk -v n="$2" -v p="$3" 'BEGIN {
+		print "occurrenceID,scientificName,taxonGroup,locality,decimalLatitude,decimalLongitude,earliestAgeOrLowestStage,minimumPaleodepthInMeters,maximumPaleodepthInMeters,preservationMode"
+		split("Campanian,Maastrichtian,Santonian,Coniacian,Turonian,late Campanian,Cenomanian,Blorptian", st, ",")
+		for (i = 0; i < n; i++) {
+			d = (i * 37) % 900 + 5
+			printf "%s%d,Fictocrinus sp%d,Crinoidea,Site %d,%.4f,%.4f,%s,%d,%d,crown\n", p, i, i % 50, i % 300,
+				(i * 7919) % 12000 / 100 - 60, (i * 104729) % 34000 / 100 - 170, st[i % 8 + 1], d, d + i % 100
+		}
+	}' >"$1"
+}
+mkcsv "$T/a.csv" 8000 A
+mkcsv "$T/b.csv" 8000 B
+batch_whole() { # batch_whole NAME FILE STATUS: after exit 0/1 the file's batch holds 7000 + 1000 rows; after 3 none
+	c=$(sqlite3 "$DB" "SELECT count(*) || ' ' || coalesce(sum(n_stored), 0) || ' ' ||
+		coalesce(sum((SELECT count(*) FROM occurrences o WHERE o.batch_id = b.batch_id)), 0) || ' ' ||
+		coalesce(sum((SELECT count(*) FROM quarantine q WHERE q.batch_id = b.batch_id)), 0)
+		FROM import_batches b WHERE b.file = '$2'" 2>&1)
+	if [ "$3" -le 1 ] && [ "$c" = "1 7000 7000 1000" ]; then ok "$1"
+	elif [ "$3" -eq 3 ] && [ "$c" = "0 0 0 0" ]; then ok "$1"
+	else fail "$1" "exit $3; batches, n_stored, occurrences, quarantined = $c"; fi
+}
+# import exits 1 here (rows quarantined), or 3 with the busy message.
+import_outcome() {
+	if [ "$2" -eq 1 ] && grep -qF "8000 rows read, 7000 stored, 1000 quarantined" "$4"; then ok "$1"
+	elif [ "$2" -eq 3 ] && [ "$(cat "$3")" = "$BUSY" ]; then ok "$1"
+	else fail "$1" "exit $2: $(head -c 300 "$3")"; fi
+}
+
+# 4. Two imports of different files at once: both stored, whole.
+$BC import "$DB" "$T/a.csv" >"$T/o1" 2>"$T/e1" & p1=$!
+$BC import "$DB" "$T/b.csv" >"$T/o2" 2>"$T/e2" & p2=$!
+wait $p1; s1=$?
+wait $p2; s2=$?
+import_outcome two_imports_first $s1 "$T/e1" "$T/o1"
+import_outcome two_imports_second $s2 "$T/e2" "$T/o2"
+batch_whole two_imports_first_whole "$T/a.csv" $s1
+batch_whole two_imports_second_whole "$T/b.csv" $s2
+integrity two_imports_integrity
+
+# 5. The same file imported twice at once: one batch, never two.
+mkcsv "$T/same.csv" 8000 S
+$BC import "$DB" "$T/same.csv" >"$T/o1" 2>"$T/e1" & p1=$!
+$BC import "$DB" "$T/same.csv" >"$T/o2" 2>"$T/e2" & p2=$!
+wait $p1; s1=$?
+wait $p2; s2=$?
+n=$(sqlite3 "$DB" "SELECT count(*) FROM import_batches WHERE file = '$T/same.csv'")
+[ "$n" = 1 ] && ok same_file_twice_one_batch || fail same_file_twice_one_batch "$n batches (exits $s1, $s2)"
+batch_whole same_file_twice_whole "$T/same.csv" 1
+if grep -qF "identical content was imported already as batch" "$T/e1" "$T/e2"; then ok same_file_twice_refusal_says_why
+else fail same_file_twice_refusal_says_why "$(head -c 200 "$T/e1") | $(head -c 200 "$T/e2")"; fi
+
+# 6. An import and a shift table at once: the table is computed on the
+# database before or after the batch, never in between.
+mkcsv "$T/c.csv" 8000 C
+before=$($BC shift "$DB" --format csv 2>/dev/null | awk -F, 'NR > 1 && $1 !~ /^#/ { s += $4 } END { print s + 0 }')
+$BC import "$DB" "$T/c.csv" >"$T/o1" 2>"$T/e1" & p1=$!
+$BC shift "$DB" --format csv >"$T/o2" 2>"$T/e2" & p2=$!
+wait $p1; s1=$?
+wait $p2; s2=$?
+import_outcome import_and_shift_import $s1 "$T/e1" "$T/o1"
+batch_whole import_and_shift_whole "$T/c.csv" $s1
+after=$($BC shift "$DB" --format csv 2>/dev/null | awk -F, 'NR > 1 && $1 !~ /^#/ { s += $4 } END { print s + 0 }')
+during=$(awk -F, 'NR > 1 && $1 !~ /^#/ { s += $4 } END { print s + 0 }' "$T/o2")
+if [ $s2 -eq 3 ] && [ "$(cat "$T/e2")" = "$BUSY" ]; then ok import_and_shift_shift_consistent
+elif [ $s2 -eq 0 ] && { [ "$during" = "$before" ] || [ "$during" = "$after" ]; }; then ok import_and_shift_shift_consistent
+else fail import_and_shift_shift_consistent "exit $s2; n before $before, during $during, after $after"; fi
+[ "$after" -gt "$before" ] && ok import_and_shift_counts_grew || fail import_and_shift_counts_grew "$before -> $after"
+integrity import_and_shift_integrity
+
+# 7. The same BibTeX file loaded twice at once: one batch, and the other
+# load says it was loaded already (or busy).
+$BC refs "$DB" "$TOP/tests/cli/fixtures/refs.bib" >"$T/o1" 2>"$T/e1" & p1=$!
+$BC refs "$DB" "$TOP/tests/cli/fixtures/refs.bib" >"$T/o2" 2>"$T/e2" & p2=$!
+wait $p1; s1=$?
+wait $p2; s2=$?
+n=$(sqlite3 "$DB" "SELECT count(*) FROM import_batches WHERE kind = 'references'")
+[ "$n" = 1 ] && ok same_refs_twice_one_batch || fail same_refs_twice_one_batch "$n batches (exits $s1, $s2)"
+if grep -qF "identical content was loaded already as batch" "$T/e1" "$T/e2"; then ok same_refs_twice_refusal_says_why
+else fail same_refs_twice_refusal_says_why "$(head -c 200 "$T/e1") | $(head -c 200 "$T/e2")"; fi
+integrity same_refs_twice_integrity
