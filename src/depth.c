@@ -34,8 +34,13 @@ int bc_depth__number(const char *s, double *out, const char **why)
 	errno = 0;
 	double d = strtod(p, &end);
 	end = (char *)skip_space(end);
-	if (end == p || *end || errno == ERANGE || !isfinite(d)) {
+	if (end == p || *end) {
 		*why = "not a number";
+		return -1;
+	}
+	/* ERANGE on a tiny number is underflow to (nearly) zero: a number */
+	if ((errno == ERANGE && fabs(d) >= 1) || !isfinite(d)) {
+		*why = "out of range (too large)";
 		return -1;
 	}
 	*out = d;

@@ -400,6 +400,16 @@ static int import_age(importer *im, occ *o)
 		return BC_OK;
 	o->e_ma = ge ? e : NAN;
 	o->l_ma = gl ? l : NAN;
+	/* A date (2021, 44259 as a spreadsheet serial) or years typed into a
+	 * column of Ma: older than the chart's oldest bound. */
+	double oldest = 0;
+	for (size_t i = 0; i < bc_chart_count(im->chart); i++)
+		if (bc_chart_interval(im->chart, i)->older_ma > oldest)
+			oldest = bc_chart_interval(im->chart, i)->older_ma;
+	if (ge && oldest > 0 && e > oldest)
+		row_problem(im, "earliestChronometricAge", "%g Ma is older than the chart (%g Ma); a date or years typed in a column of Ma?", e, oldest);
+	if (gl && oldest > 0 && l > oldest)
+		row_problem(im, "latestChronometricAge", "%g Ma is older than the chart (%g Ma); a date or years typed in a column of Ma?", l, oldest);
 	if (ge && e < 0)
 		row_problem(im, "earliestChronometricAge", "%g Ma is negative (ages are millions of years before present)", e);
 	if (gl && l < 0)
@@ -482,6 +492,13 @@ static void import_depth(importer *im, occ *o)
 		}
 		if (a > b) {
 			row_problem(im, "minimumPaleodepthInMeters", "%g m is deeper than maximumPaleodepthInMeters %g m", a, b);
+			return;
+		}
+		/* The deepest ocean floor today is about 11 km (Challenger Deep,
+		 * from memory); deeper is a wrong number or unit. */
+		if (b > 11500) {
+			row_problem(im, a > 11500 ? "minimumPaleodepthInMeters" : "maximumPaleodepthInMeters",
+				"%g m is deeper than any ocean (about 11 km at most); a wrong number or unit?", a > 11500 ? a : b);
 			return;
 		}
 		o->dmin = a;
