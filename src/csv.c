@@ -356,6 +356,10 @@ static int csv_fill(bc_csv *c, bc_err *err)
 		if (c->oom)
 			return bc_err_set(err, BC_ENOMEM, "out of memory");
 		c->build_bytes += len;
+		/* libcsv's state 0 (ROW_NOT_BEGUN): the record ended on this line,
+		 * so a long but complete line is no run-on record. */
+		if (!c->building && c->p.pstate == 0)
+			c->build_bytes = 0;
 		if (c->build_bytes + c->p.entry_pos > CSV_MAX_RECORD_BYTES)
 			return bc_err_set(err, BC_EINVALID, "%s:%ld: quoting: a record runs on for more than %u MB from here (an unmatched \"?)",
 				c->name, c->building ? c->build.line : c->next_start, CSV_MAX_RECORD_BYTES >> 20);
