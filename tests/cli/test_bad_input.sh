@@ -58,3 +58,189 @@ unchanged init_left_foreign_alone "$T/db-plain-sqlite.gpkg" "$(sha256sum <"$BAD/
 # The foreign SQLite file still holds its own rows.
 n=$(sqlite3 "$T/db-plain-sqlite.gpkg" "SELECT count(*) FROM samples")
 [ "$n" = 2 ] && ok foreign_rows_kept || fail foreign_rows_kept "$n rows"
+
+# ------------------------------------------------------------------
+# Spreadsheets (CSV) that cannot be read as a whole: refused with one
+# line naming the file (and line), exit 1, the database unchanged.
+# ------------------------------------------------------------------
+DB=$T/ingest.gpkg
+$BC init "$DB" >/dev/null
+refused() { # refused KIND EXPECTED_MESSAGE
+	sqlite3 "$DB" .dump >"$T/before.sql"
+	expect_status 1 "csv_${1}_refused" $BC import "$DB" "$BAD/csv-$1.csv"
+	same_text "csv_${1}_message" "$T/err" "$2"
+	dump_same "csv_${1}_db_unchanged" "$DB" "$T/before.sql"
+}
+refused empty "bathychron: $BAD/csv-empty.csv: empty file; expected a header row and data rows"
+refused header-only "bathychron: $BAD/csv-header-only.csv: only a header row, no data rows; nothing imported"
+# A gzip-compressed spreadsheet given as it is.
+refused binary "bathychron: $BAD/csv-binary.csv:1: encoding: NUL byte in the text (a binary or UTF-16 file?); save the file as UTF-8 text"
+# Line 2 is valid; line 3 has Latin-1 bytes: the whole file is refused, so
+# no half of it is stored.
+refused latin1 "bathychron: $BAD/csv-latin1.csv:3: encoding: not UTF-8 (looks like Latin-1/Windows-1252); save the file as UTF-8"
+refused utf16 "bathychron: $BAD/csv-utf16.csv:1: encoding: UTF-16 (byte-order mark found); save the file as UTF-8"
+refused nul "bathychron: $BAD/csv-nul.csv:3: encoding: NUL byte in the text (a binary or UTF-16 file?); save the file as UTF-8 text"
+
+# ------------------------------------------------------------------
+# Files with some bad rows: the bad rows go to the quarantine with file,
+# line, field and reason; every valid row is stored; every data line is in
+# exactly one of the two.
+# ------------------------------------------------------------------
+# accounted NAME FILE: the lines of the last batch, stored plus
+# quarantined, are exactly the file's data lines 2..N, each once.
+accounted() {
+	n=$(($(grep -c '' "$2") - 1))
+	got=$(sqlite3 "$DB" "SELECT group_concat(line) FROM (SELECT line FROM occurrences WHERE batch_id = (SELECT max(batch_id) FROM import_batches)
+		UNION ALL SELECT line FROM quarantine WHERE batch_id = (SELECT max(batch_id) FROM import_batches) ORDER BY line)")
+	want=$(seq -s, 2 $((n + 1)))
+	[ "$got" = "$want" ] && ok "$1" || fail "$1" "lines stored + quarantined: $got; expected $want"
+}
+stored_ids() { # stored_ids NAME IDS: occurrenceIDs stored by the last batch, in line order
+	got=$(sqlite3 "$DB" "SELECT group_concat(occurrence_id, ' ') FROM (SELECT occurrence_id FROM occurrences WHERE batch_id = (SELECT max(batch_id) FROM import_batches) ORDER BY line)")
+	[ "$got" = "$2" ] && ok "$1" || fail "$1" "stored: $got; expected $2"
+}
+rows_case() { # rows_case KIND SUMMARY (stderr expected in $T/want)
+	expect_status 1 "csv_${1}_status" $BC import "$DB" "$BAD/csv-$1.csv"
+	if cmp -s "$T/err" "$T/want"; then ok "csv_${1}_messages"; else fail "csv_${1}_messages" "$(diff "$T/want" "$T/err" | head -c 600)"; fi
+	same_text "csv_${1}_summary" "$T/out" "$BAD/csv-$1.csv: $2"
+	accounted "csv_${1}_nothing_lost" "$BAD/csv-$1.csv"
+}
+
+cat >"$T/want" <<MSG
+bathychron: $BAD/csv-ragged.csv:3: row: 4 cells, but the header has 7 columns (a missing or extra comma, or a line break outside quotes?)
+bathychron: $BAD/csv-ragged.csv:4: row: 9 cells, but the header has 7 columns (a missing or extra comma, or a line break outside quotes?)
+MSG
+rows_case ragged "4 rows read, 2 stored, 2 quarantined"
+stored_ids csv_ragged_valid_rows_stored "R1 R4"
+# The quarantine keeps every cell of a ragged row, the extra ones too.
+$BC check "$DB" --quarantine >"$T/q" 2>&1
+contains csv_ragged_extra_cells_kept "$T/q" "extra"
+contains csv_ragged_extra_cells_kept_2 "$T/q" "more"
+
+cat >"$T/want" <<MSG
+bathychron: $BAD/csv-numbers.csv:3: decimalLatitude: 1e+308 is outside -90..90
+bathychron: $BAD/csv-numbers.csv:4: earliestChronometricAge: '1e400' is out of range (too large)
+bathychron: $BAD/csv-numbers.csv:6: maximumPaleodepthInMeters: 1e+308 m is deeper than any ocean (about 11 km at most); a wrong number or unit?
+bathychron: $BAD/csv-numbers.csv:7: individualCount: '99999999999999999999' is not a whole number >= 0
+bathychron: $BAD/csv-numbers.csv:9: decimalLatitude: '0x1p4' is not a number
+bathychron: $BAD/csv-numbers.csv:10: decimalLatitude: '50,5' is not a number (use a decimal point, not a comma); also decimalLongitude: '10,25' is not a number (use a decimal point, not a comma)
+MSG
+rows_case numbers "11 rows read, 5 stored, 6 quarantined"
+# Tiny numbers are numbers (1e-320 m underflows towards 0, it is not text).
+stored_ids csv_numbers_valid_rows_stored "V1 H3 H6 H9 V2"
+
+cat >"$T/want" <<MSG
+bathychron: $BAD/csv-nan-inf.csv:3: decimalLatitude: 'NaN' is not a number
+bathychron: $BAD/csv-nan-inf.csv:4: decimalLongitude: 'inf' is not a number
+bathychron: $BAD/csv-nan-inf.csv:5: earliestChronometricAge: 'nan' is not a number
+bathychron: $BAD/csv-nan-inf.csv:6: earliestChronometricAge: 'Infinity' is not a number; also latestChronometricAge: '-Infinity' is not a number
+bathychron: $BAD/csv-nan-inf.csv:7: minimumPaleodepthInMeters: '-inf' is not a number; also maximumPaleodepthInMeters: 'INF' is not a number
+bathychron: $BAD/csv-nan-inf.csv:8: individualCount: 'nan' is not a whole number >= 0
+bathychron: $BAD/csv-nan-inf.csv:9: minimumPaleodepthInMeters: '#N/A' is not a number; also maximumPaleodepthInMeters: '#DIV/0!' is not a number
+MSG
+rows_case nan-inf "8 rows read, 1 stored, 7 quarantined"
+stored_ids csv_nan-inf_valid_rows_stored "V1"
+# Nothing infinite or absurd was stored by any batch so far.
+n=$(sqlite3 "$DB" "SELECT count(*) FROM occurrences WHERE abs(older_ma) > 5000 OR abs(younger_ma) > 5000 OR min_depth_m > 12000 OR max_depth_m > 12000")
+[ "$n" = 0 ] && ok csv_no_infinite_values_stored || fail csv_no_infinite_values_stored "$n rows"
+
+cat >"$T/want" <<MSG
+bathychron: $BAD/csv-dates-in-age.csv:3: earliestAgeOrLowestStage: unknown age '2021-03-04'; could not read the numbers (expected e.g. '72 Ma', '83.6-72.1 Ma', '75 +/- 2 Ma')
+bathychron: $BAD/csv-dates-in-age.csv:4: earliestAgeOrLowestStage: unknown age '04/03/2021'; could not read the numbers (expected e.g. '72 Ma', '83.6-72.1 Ma', '75 +/- 2 Ma')
+bathychron: $BAD/csv-dates-in-age.csv:5: earliestAgeOrLowestStage: unknown age 'March 2021'; not recognised; no chart name is close
+bathychron: $BAD/csv-dates-in-age.csv:6: earliestChronometricAge: '2021-03-04' is not a number; also latestChronometricAge: '1999-01-01' is not a number
+bathychron: $BAD/csv-dates-in-age.csv:7: earliestChronometricAge: 44259 Ma is older than the chart (4567 Ma); a date or years typed in a column of Ma?; also latestChronometricAge: 44000 Ma is older than the chart (4567 Ma); a date or years typed in a column of Ma?
+bathychron: $BAD/csv-dates-in-age.csv:8: latestAgeOrHighestStage: unknown age '12-Mar'; could not read the numbers (expected e.g. '72 Ma', '83.6-72.1 Ma', '75 +/- 2 Ma')
+bathychron: $BAD/csv-dates-in-age.csv:9: earliestChronometricAge: '72.1 Ma' is not a number
+MSG
+rows_case dates-in-age "8 rows read, 1 stored, 7 quarantined"
+stored_ids csv_dates_valid_rows_stored "V1"
+
+# ------------------------------------------------------------------
+# Hostile text that is valid data: stored exactly as written, harmless.
+# ------------------------------------------------------------------
+# SQL metacharacters in every field: stored verbatim, every table intact.
+tables_before=$(sqlite3 "$DB" "SELECT count(*) FROM sqlite_master")
+expect_status 0 csv_sql_status $BC import "$DB" "$BAD/csv-sql.csv"
+same_text csv_sql_summary "$T/out" "$BAD/csv-sql.csv: 2 rows read, 2 stored, 0 quarantined"
+sqlite3 "$DB" "SELECT scientific_name FROM occurrences WHERE occurrence_id IN ('S1', 'S2') ORDER BY occurrence_id" >"$T/names"
+same_text csv_sql_stored_verbatim "$T/names" "Robert'); DROP TABLE occurrences;--
+Fictocrinus %s%n"
+sqlite3 "$DB" "SELECT name FROM localities ORDER BY name" >"$T/locs"
+contains csv_sql_locality_verbatim "$T/locs" "x' OR '1'='1"
+contains csv_sql_locality_verbatim_2 "$T/locs" 'Quarry\\0Vell :name ?1 $x @y'
+tables_after=$(sqlite3 "$DB" "SELECT count(*) FROM sqlite_master")
+[ "$tables_before" = "$tables_after" ] && ok csv_sql_schema_intact || fail csv_sql_schema_intact "$tables_before -> $tables_after"
+n=$(sqlite3 "$DB" "SELECT count(*) FROM import_batches")
+[ "$n" -ge 5 ] && ok csv_sql_batches_intact || fail csv_sql_batches_intact "$n batches"
+r=$(sqlite3 "$DB" "PRAGMA integrity_check")
+[ "$r" = ok ] && ok csv_sql_integrity || fail csv_sql_integrity "$r"
+
+# Cells that look like spreadsheet formulas: stored as text; export puts a
+# ' before = + - @ tab CR (OWASP "CSV Injection") and never touches
+# numbers; importing the export gives the same values back.
+expect_status 0 csv_formulas_status $BC import "$DB" "$BAD/csv-formulas.csv"
+sqlite3 "$DB" "SELECT scientific_name FROM occurrences WHERE occurrence_id = 'F1'" >"$T/f1"
+same_text csv_formulas_stored_as_text "$T/f1" '=HYPERLINK("http://example.invalid")'
+expect_status 0 csv_export_status $BC export "$DB" --format csv -o "$T/export.csv"
+# No exported cell starts with a formula character, quoted or not.
+/usr/bin/python3 - "$T/export.csv" >"$T/unsafe" <<'PY' && ok csv_export_no_formula_cells || fail csv_export_no_formula_cells "$(head -c 300 "$T/unsafe")"
+import csv, re, sys
+bad = 0
+with open(sys.argv[1], newline="", encoding="utf-8") as f:
+    for row in csv.reader(f):
+        for cell in row:
+            # a number (-33.92) is safe; text starting = + - @ tab CR is not
+            if cell[:1] in ("=", "+", "@", "\t", "\r") or (cell[:1] == "-" and not re.fullmatch(r"-[0-9.eE+-]+", cell)):
+                print(repr(cell)[:80]); bad = 1
+sys.exit(bad)
+PY
+contains csv_export_guarded_equals "$T/export.csv" "\"'=HYPERLINK(\"\"http://example.invalid\"\")\""
+contains csv_export_guarded_at "$T/export.csv" "'@SUM(A1:A9)"
+contains csv_export_guarded_minus "$T/export.csv" "'-Hill Tarn"
+contains csv_export_negative_number_untouched "$T/export.csv" ",-33.92,18.42,"
+$BC init "$T/again.gpkg" >/dev/null
+expect_status 0 csv_export_reimport $BC import "$T/again.gpkg" "$T/export.csv"
+same_text csv_export_reimport_says_guards_removed "$T/err" "bathychron: $T/export.csv: removed the spreadsheet formula guard (a leading ') from 6 cells; --keep-guard-quotes keeps it"
+$BC export "$T/again.gpkg" --format csv -o "$T/export2.csv" >/dev/null 2>&1
+if cmp -s "$T/export.csv" "$T/export2.csv"; then ok csv_export_round_trip; else fail csv_export_round_trip "$(diff "$T/export.csv" "$T/export2.csv" | head -c 400)"; fi
+
+# A 1 MB cell (generated here) is stored whole and comes back whole.
+awk 'BEGIN { print "occurrenceID,scientificName,locality,earliestAgeOrLowestStage,minimumPaleodepthInMeters,maximumPaleodepthInMeters,preservationMode,notes"
+	s = "Quarry Vell field notes "; while (length(s) < 1048576) s = s s
+	printf "B1,Fictocrinus alpha,Quarry Vell,Campanian,120,150,crown,\"%s\"\n", substr(s, 1, 1048576)
+	print "B2,Fictocrinus beta,Hill Tarn,Maastrichtian,300,400,calyx,short" }' >"$T/mega-field.csv"
+$BC init "$T/mega.gpkg" >/dev/null
+expect_status 0 csv_1mb_field_status $BC import "$T/mega.gpkg" "$T/mega-field.csv"
+same_text csv_1mb_field_summary "$T/out" "$T/mega-field.csv: 2 rows read, 2 stored, 0 quarantined"
+$BC export "$T/mega.gpkg" --format csv -o "$T/mega-out.csv" >/dev/null 2>&1
+n=$(/usr/bin/python3 -c 'import csv, sys; csv.field_size_limit(1 << 30); r = list(csv.reader(open(sys.argv[1], newline="", encoding="utf-8"))); print(len(r[1][r[0].index("notes")]))' "$T/mega-out.csv")
+[ "$n" = 1048576 ] && ok csv_1mb_field_whole || fail csv_1mb_field_whole "last cell of row B1 has $n characters"
+# A complete 17 MB cell on one line is data, stored whole; a quote left
+# open that runs on for more than 16 MB is refused as a whole at the line
+# where it starts (an unmatched quote would otherwise swallow the file).
+awk 'BEGIN { print "occurrenceID,scientificName,earliestAgeOrLowestStage,minimumPaleodepthInMeters,preservationMode,notes"
+	s = "x"; while (length(s) < 17 * 1048576) s = s s; printf "L1,Fictocrinus alpha,Campanian,100,crown,\"%s\"\n", substr(s, 1, 17 * 1048576) }' >"$T/huge-field.csv"
+expect_status 0 csv_17mb_field_status $BC import "$T/mega.gpkg" "$T/huge-field.csv"
+n=$(sqlite3 "$T/mega.gpkg" "SELECT length(json_extract(extra, '$.notes')) FROM occurrences WHERE occurrence_id = 'L1'")
+[ "$n" = $((17 * 1048576)) ] && ok csv_17mb_field_whole || fail csv_17mb_field_whole "$n characters stored"
+rm -f "$T/huge-field.csv"
+awk 'BEGIN { print "occurrenceID,scientificName,earliestAgeOrLowestStage,minimumPaleodepthInMeters,preservationMode,notes"
+	print "R1,Fictocrinus alpha,Campanian,100,crown,\"a quote never closed"
+	for (i = 2; i < 300000; i++) print "R" i ",Fictocrinus alpha,Campanian,100,crown,notes on the row, and some more text here" }' >"$T/runon.csv"
+sqlite3 "$T/mega.gpkg" .dump >"$T/mega-before.sql"
+expect_status 1 csv_runon_quote_refused $BC import "$T/mega.gpkg" "$T/runon.csv"
+same_text csv_runon_quote_message "$T/err" "bathychron: $T/runon.csv:2: quoting: a record runs on for more than 16 MB from here (an unmatched \"?)"
+dump_same csv_runon_quote_db_unchanged "$T/mega.gpkg" "$T/mega-before.sql"
+rm -f "$T/runon.csv" "$T/mega-before.sql"
+
+# ------------------------------------------------------------------
+# Hostile XML (tests/fixtures/charts/): refused, nothing read from
+# outside, the database unchanged.
+# ------------------------------------------------------------------
+sqlite3 "$DB" .dump >"$T/before.sql"
+expect_status 1 xml_billion_laughs_refused $BC timescale load "$DB" "$FIX/charts/billion-laughs.rdf"
+same_text xml_billion_laughs_message "$T/err" "bathychron: $FIX/charts/billion-laughs.rdf:3: DOCTYPE: refused: the document type declaration declares entity 'lol' (entities are never expanded; a chart file needs no DTD)"
+expect_status 1 xml_external_entity_refused $BC timescale load "$DB" "$FIX/charts/external-entity.rdf"
+if grep -q 'root:' "$T/out" "$T/err"; then fail xml_external_entity_not_read "/etc/passwd content in output"; else ok xml_external_entity_not_read; fi
+dump_same xml_db_unchanged "$DB" "$T/before.sql"
