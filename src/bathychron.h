@@ -283,6 +283,94 @@ int bc_age_resolve_pair(bc_resolver *r, const char *earliest, const char *latest
 /* == end of shift section == */
 
 /* ------------------------------------------------------------------ */
+/* Injuries and encounter rates (encounter.c, injuries.c, encreport.c) */
+/* ------------------------------------------------------------------ */
+
+/* == injuries and encounter section == */
+
+/**
+ * How an incidence rate is obtained from a prevalence P of regenerating
+ * units (individuals or arms) and the mean duration D of the regenerating
+ * state. Both need a stationary population with constant rates.
+ */
+typedef enum bc_incidence_model {
+	/** Steady state, P / (1 - P) = I x D: I is per unit at risk (not
+	 * currently regenerating) per day. Freeman J, Hutchison GB (1980)
+	 * Prevalence, incidence and duration. Am J Epidemiol 112(5):707-723. */
+	BC_INCIDENCE_STEADY_STATE = 0,
+	/** Poisson injuries regardless of state, P = 1 - exp(-lambda x D):
+	 * lambda = -ln(1 - P) / D per unit per day. */
+	BC_INCIDENCE_POISSON
+} bc_incidence_model;
+
+/** "steady-state" or "poisson". Static storage. */
+const char *bc_incidence_model_name(bc_incidence_model model);
+/** Parses the names above. Returns 0 or BC_EUSAGE. */
+int bc_incidence_model_parse(bc_incidence_model *out, const char *name);
+
+/**
+ * Incidence from prevalence `p` (0..1) and duration `d` (> 0) in the given
+ * model, per unit of `d`'s time. Returns 0 for p = 0, +infinity for p = 1,
+ * NaN for p outside [0, 1] or d <= 0 (or either NaN).
+ */
+double bc_encounter_incidence(double p, double d, bc_incidence_model model);
+
+/** Incidence per unit of the whole population, I* = P / D (= I (1 - P) in
+ * the steady-state model). NaN for bad input as above. */
+double bc_encounter_per_capita(double p, double d);
+
+/** How the Monte Carlo draws the uncertain inputs. */
+typedef struct bc_encounter_mc {
+	long draws;           /* Monte Carlo draws; 0 = no intervals from the MC */
+	uint64_t seed;        /* the same seed gives the same intervals */
+	double level;         /* confidence level, e.g. 0.95 */
+	bc_incidence_model model;
+	int shared_duration;  /* 1: one duration draw per MC draw for every group
+				 (durations assumed equal everywhere: cancels in
+				 ratios); 0: independent per group */
+} bc_encounter_mc;
+#define BC_ENCOUNTER_MC_INIT {10000, 1, 0.95, BC_INCIDENCE_STEADY_STATE, 0}
+
+/**
+ * One group of units (the individuals, or the arms, of a depth zone, site
+ * or bin). The caller fills the inputs; bc_encounter_compute fills the rest.
+ * Rates are per unit per day; intervals between encounters in days.
+ */
+typedef struct bc_encounter_group {
+	/* inputs */
+	double n;             /* units examined */
+	double x;             /* units regenerating, 0 <= x <= n */
+	double duration_min;  /* days, > 0: the shortest plausible mean duration */
+	double duration_max;  /* days, >= duration_min */
+	/* outputs */
+	double prevalence, prevalence_lo, prevalence_hi; /* x / n; Wilson interval */
+	double duration;      /* midpoint of [duration_min, duration_max] */
+	double incidence, incidence_lo, incidence_hi;    /* per unit per day */
+	double per_capita;    /* P / D */
+	double interval, interval_lo, interval_hi;       /* 1 / incidence, days */
+	double ratio, ratio_lo, ratio_hi;                /* incidence / that of the reference group */
+} bc_encounter_group;
+
+/**
+ * Fills the outputs of k groups. Point estimates use x / n and the
+ * midpoint duration. Intervals come from mc->draws Monte Carlo draws:
+ * the prevalence from its Jeffreys posterior Beta(x + 1/2, n - x + 1/2)
+ * (finite and positive at x = 0 and x = n, where a parametric bootstrap
+ * would collapse) and the duration uniform on [duration_min, duration_max];
+ * the limits are percentiles of the drawn incidences. Where the data do not
+ * bound a rate, the limit is stated as such: x = 0 gives incidence_lo = 0
+ * (interval_hi = +inf), x = n gives incidence_hi = +inf (interval_lo = 0).
+ * The ratio of each group to group `ref` uses the same paired draws
+ * (groups are independent samples). A group with n = 0 gets NaN outputs.
+ * Returns 0, BC_EINVALID (file-less message naming the group index) for
+ * bad inputs, BC_EUSAGE for bad options, or BC_ENOMEM.
+ */
+int bc_encounter_compute(bc_encounter_group *groups, size_t k, size_t ref,
+			 const bc_encounter_mc *mc, bc_err *err);
+
+/* == end of injuries and encounter section == */
+
+/* ------------------------------------------------------------------ */
 /* Figures (plot.c)                                                    */
 /* ------------------------------------------------------------------ */
 
