@@ -368,6 +368,98 @@ typedef struct bc_encounter_group {
 int bc_encounter_compute(bc_encounter_group *groups, size_t k, size_t ref,
 			 const bc_encounter_mc *mc, bc_err *err);
 
+/** What bc_injuries_import does; initialise with BC_INJURIES_IMPORT_OPTIONS_INIT. */
+typedef struct bc_injuries_import_options {
+	const char *timescale;  /* chart to resolve ages with; NULL = the database's default */
+	int dry_run;            /* validate and count, store nothing */
+	/* Called once per quarantined row with its "FILE:LINE: field: reason"
+	 * (may be NULL). The row is stored in the quarantine table as well. */
+	void (*on_problem)(void *ctx, const char *message);
+	void *ctx;
+} bc_injuries_import_options;
+#define BC_INJURIES_IMPORT_OPTIONS_INIT {NULL, 0, NULL, NULL}
+
+/** What an import did. */
+typedef struct bc_injuries_import_result {
+	int64_t batch_id;       /* the import_batches row (kind 'injuries'); 0 on a dry run */
+	long n_read;            /* data rows read */
+	long n_stored;          /* rows stored in injury_samples */
+	long n_quarantined;     /* rows kept in the quarantine with their reason */
+	long n_individuals;     /* individuals examined in the stored rows */
+	long n_regenerating;    /* of which regenerating */
+} bc_injuries_import_result;
+
+/**
+ * Imports a CSV/TSV of injury samples (columns: doc/injuries.md) in one
+ * transaction with one import_batches row of kind 'injuries'. Every row
+ * that cannot be used goes to the quarantine with file, line, field,
+ * reason and the raw row; the import still succeeds (check
+ * out->n_quarantined). A file whose content was already imported gives
+ * BC_EEXISTS and changes nothing. A file that cannot be read as CSV, or
+ * lacks a required column, gives BC_EINVALID and changes nothing.
+ */
+int bc_injuries_import(bc_injuries_import_result *out, bc_db *db, const char *path,
+		       const bc_injuries_import_options *opts, bc_err *err);
+
+/** How `bathychron encounter` groups the samples. */
+typedef enum bc_encounter_by {
+	BC_ENCOUNTER_BY_ZONE = 0, /* one row per depth zone, all ages pooled */
+	BC_ENCOUNTER_BY_SITE,     /* one row per site and zone */
+	BC_ENCOUNTER_BY_BIN       /* one row per age (as resolved; Recent apart) and zone */
+} bc_encounter_by;
+
+/** "zone", "site", "bin". Static storage. */
+const char *bc_encounter_by_name(bc_encounter_by by);
+/** Parses the names above. Returns 0 or BC_EUSAGE. */
+int bc_encounter_by_parse(bc_encounter_by *out, const char *name);
+
+/** What bc_encounter_report_build computes; initialise with BC_ENCOUNTER_OPTIONS_INIT. */
+typedef struct bc_encounter_options {
+	bc_encounter_by by;
+	const double *zones;   /* zone boundaries in metres, increasing (borrowed);
+				  NULL = one boundary at 200 m. A sample whose depth
+				  range crosses a boundary is left out and counted. */
+	size_t n_zones;
+	const char *taxon;     /* only samples of this taxon (exact, or a genus
+				  matching the first word); NULL = all */
+	bc_encounter_mc mc;
+} bc_encounter_options;
+#define BC_ENCOUNTER_OPTIONS_INIT {BC_ENCOUNTER_BY_ZONE, NULL, 0, NULL, BC_ENCOUNTER_MC_INIT}
+
+/** One row of the encounter table. Strings are borrowed from the report. */
+typedef struct bc_encounter_row {
+	const char *bin;       /* "all", "Recent", or the resolved age ("Campanian", "Campanian-Maastrichtian", "83.6-72.1 Ma") */
+	const char *zone;      /* zone label, e.g. "shallow (<200 m)" */
+	int zone_index;        /* 0 = shallowest */
+	const char *site;      /* the site when grouped by site, else "" */
+	double min_depth_m, max_depth_m; /* depth extent of its samples */
+	double older_ma, younger_ma;     /* age extent of its samples (0, 0 for Recent) */
+	long n_samples;        /* rows of injury_samples pooled here */
+	bc_encounter_group individuals;  /* per individual */
+	bc_encounter_group arms;         /* per arm, from samples with arm counts (n = 0: none) */
+	long ratio_to;         /* index of the row whose rate the ratios divide by */
+} bc_encounter_row;
+
+typedef struct bc_encounter_report bc_encounter_report;
+
+/**
+ * Reads the stored injury samples, groups them and computes every row.
+ * BC_ENOTFOUND when no sample matches. The report is the caller's; free it
+ * with bc_encounter_report_free.
+ */
+int bc_encounter_report_build(bc_encounter_report **out, bc_db *db, const bc_encounter_options *opts, bc_err *err);
+size_t bc_encounter_report_count(const bc_encounter_report *r);
+/** Row i (0-based), or NULL. Borrowed. */
+const bc_encounter_row *bc_encounter_report_row(const bc_encounter_report *r, size_t i);
+/** Samples left out because their depth range crosses a zone boundary. */
+long bc_encounter_report_straddling(const bc_encounter_report *r);
+/**
+ * Writes the table with its methods stamp and cautions in `format`
+ * (columns: doc/encounter.md). BC_EIO when the stream fails.
+ */
+int bc_encounter_report_write(const bc_encounter_report *r, FILE *f, bc_format format, bc_err *err);
+void bc_encounter_report_free(bc_encounter_report *r);
+
 /* == end of injuries and encounter section == */
 
 /* ------------------------------------------------------------------ */

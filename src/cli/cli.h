@@ -47,5 +47,7 @@ int cmd_check(int argc, char **argv);
 int cmd_shift(int argc, char **argv);
 int cmd_plot(int argc, char **argv);
 int cmd_export(int argc, char **argv);
+int cmd_injuries(int argc, char **argv);
+int cmd_encounter(int argc, char **argv);
 
 #endif

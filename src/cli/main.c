@@ -24,6 +24,8 @@ static const struct command {
 	{"shift", cmd_shift, "compute the occurrence-shift table between shallow and deep water"},
 	{"plot", cmd_plot, "draw the shift as a figure (SVG, PDF or PNG)"},
 	{"export", cmd_export, "write stored occurrences as CSV or a Darwin Core Archive"},
+	{"injuries", cmd_injuries, "import samples examined for regenerating arms (injuries import DB FILE)"},
+	{"encounter", cmd_encounter, "injury incidence and interval between predator encounters by depth"},
 };
 
 static void usage(FILE *f)
