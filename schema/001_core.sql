@@ -159,7 +159,7 @@ CREATE TABLE "references" (
 -- geom is a GeoPackageBinary point, NULL when the locality has no coordinates.
 CREATE TABLE localities (
   fid INTEGER PRIMARY KEY AUTOINCREMENT,
-  geom BLOB,
+  geom POINT,                         -- GeoPackage Req. 25: declared type is the geometry type name
   name TEXT NOT NULL DEFAULT '',
   country TEXT NOT NULL DEFAULT '',
   formation TEXT NOT NULL DEFAULT '',

@@ -272,6 +272,53 @@ int bc_age_resolve_pair(bc_resolver *r, const char *earliest, const char *latest
 
 /* == geo section == */
 
+/**
+ * Spatial coverage of a set of localities, the usual yardsticks of how much
+ * of the world a sample covers (more localities, cells and a longer tree
+ * mean more spread-out sampling; a shift between bins can follow a change
+ * in coverage rather than in habitat).
+ */
+typedef struct bc_coverage_options {
+	double cell_km;   /* edge of the equal-area grid cells, km (> 0) */
+} bc_coverage_options;
+/** Cells of 100 km on EPSG:6933 (WGS 84 / NSIDC EASE-Grid 2.0 Global). */
+#define BC_COVERAGE_OPTIONS_INIT {100.0}
+
+typedef struct bc_coverage {
+	size_t n_localities;       /* distinct localities with coordinates */
+	size_t n_unlocated;        /* distinct localities without coordinates (not counted below) */
+	size_t n_without_locality; /* occurrences with no locality at all (occurrence form only) */
+	size_t n_cells;            /* occupied cells of cell_km x cell_km on EPSG:6933, grid origin at its (0, 0) */
+	double cell_km;            /* the cell edge used */
+	double min_lat, max_lat;   /* WGS 84 degrees; NaN when n_localities is 0 */
+	double lat_range;          /* max_lat - min_lat, degrees; 0 for one locality, NaN for none */
+	double mst_km;             /* summed geodesic length (WGS 84) of the minimum spanning tree, km */
+} bc_coverage;
+
+/**
+ * Coverage of `n` points given as WGS 84 longitude/latitude, each counted
+ * as one locality. `opts` NULL means BC_COVERAGE_OPTIONS_INIT. BC_EINVALID
+ * for a coordinate off the globe or a cell size <= 0. Fills `*out`.
+ */
+int bc_coverage_points(bc_coverage *out, const double *lon, const double *lat, size_t n,
+		       const bc_coverage_options *opts, bc_err *err);
+
+/**
+ * Coverage of the localities with the given fids (`fids` NULL: every
+ * locality in the database). Repeated fids count once; an unknown fid gives
+ * BC_ENOTFOUND.
+ */
+int bc_coverage_localities(bc_coverage *out, bc_db *db, const int64_t *fids, size_t n,
+			   const bc_coverage_options *opts, bc_err *err);
+
+/**
+ * Coverage of the localities of the occurrences with the given primary keys
+ * (occurrences.occurrence_pk; `pks` NULL: every occurrence). An unknown key
+ * gives BC_ENOTFOUND.
+ */
+int bc_coverage_occurrences(bc_coverage *out, bc_db *db, const int64_t *pks, size_t n,
+			    const bc_coverage_options *opts, bc_err *err);
+
 /* == end of geo section == */
 
 /* ------------------------------------------------------------------ */
