@@ -199,6 +199,50 @@ int bc_timescale_store(bc_db *db, const bc_chart *chart, const char *loaded_from
 /** Reads a stored chart; `name` NULL means the database's default. */
 int bc_timescale_get(bc_chart **out, bc_db *db, const char *name, bc_err *err);
 
+/*
+ * Additions beyond the declarations above (same section, same owner).
+ */
+
+/**
+ * Like bc_timescale_store, but a stored chart of the same name is replaced
+ * (its intervals and labels too) in the same transaction; a replaced
+ * default chart stays the default. Occurrences already resolved keep their
+ * stored ages: re-import to resolve them against the new chart.
+ */
+int bc_timescale_replace(bc_db *db, const bc_chart *chart, const char *loaded_from, int make_default, bc_err *err);
+
+/** One stored chart, as listed by bc_timescale_list. */
+typedef struct bc_timescale_info {
+	char name[128];
+	int is_default;
+	size_t n_intervals;
+	char source[1024];
+	char licence[256];
+	char loaded_from[512];
+	char loaded_at[32];
+} bc_timescale_info;
+
+/**
+ * The stored charts, default first, then by name. `*out` is the caller's
+ * (free it with free()); `*n` is its length.
+ */
+int bc_timescale_list(bc_timescale_info **out, size_t *n, bc_db *db, bc_err *err);
+
+/**
+ * Gives each interval of `dst` without a colour the colour of the interval
+ * of `src` with the same IRI (or, failing that, the same English name),
+ * recording `colour_source` (e.g. "ICS 2024-12 chart colours"). Returns
+ * the number of intervals coloured (>= 0) or a negative code.
+ */
+int bc_chart_copy_colours(bc_chart *dst, const bc_chart *src, const char *colour_source, bc_err *err);
+
+/**
+ * Reads a chart from a file by its form: SKOS RDF/XML (.rdf, .xml, .owl,
+ * or a file starting with '<') or the project's TSV. `name` NULL names it
+ * from the file name ("ics-chart-2020.skos.rdf" -> "ics-chart-2020").
+ */
+int bc_chart_load_file(bc_chart **out, const char *path, const char *name, bc_err *err);
+
 /* == end of chart loading section == */
 
 /* ------------------------------------------------------------------ */
