@@ -551,6 +551,15 @@ long bc_encounter_report_straddling(const bc_encounter_report *r);
 int bc_encounter_report_write(const bc_encounter_report *r, FILE *f, bc_format format, bc_err *err);
 void bc_encounter_report_free(bc_encounter_report *r);
 
+/**
+ * Draws the mean interval between injuring encounters per row (individuals,
+ * log scale) with its interval, unbounded limits as arrows, counts under
+ * each column and the model's cautions in the caption; SVG, PDF or PNG
+ * (300 dpi) by the extension of `path`. `width_mm` 85 for one journal
+ * column, 180 for two. Returns 0, BC_EUSAGE (extension, width), BC_EIO.
+ */
+int bc_encounter_plot(const bc_encounter_report *r, const char *path, double width_mm, bc_err *err);
+
 /* == end of injuries and encounter section == */
 
 /* ------------------------------------------------------------------ */

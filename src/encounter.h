@@ -46,4 +46,7 @@ long bc_rng__binomial(bc_rng *r, long n, double p);
  */
 double bc_encounter__quantile(const double *sorted, size_t n, double q);
 
+/** The options a report was built with (zones and taxon owned by the report). Borrowed. */
+const bc_encounter_options *bc_encounter__report_options(const bc_encounter_report *r);
+
 #endif

@@ -5,6 +5,7 @@
  * writer with a methods stamp and the model's cautions.
  */
 #include "db.h"
+#include "encounter.h"
 #include "output.h"
 
 #include <math.h>
@@ -347,6 +348,8 @@ done:
 	*out = r;
 	return BC_OK;
 }
+
+const bc_encounter_options *bc_encounter__report_options(const bc_encounter_report *r) { return &r->opts; }
 
 size_t bc_encounter_report_count(const bc_encounter_report *r) { return r ? r->n : 0; }
 

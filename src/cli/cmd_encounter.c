@@ -6,12 +6,14 @@
 
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h>
 
 static const char help[] =
 	"usage: bathychron encounter DB [--by zone|site|bin] [--split METRES | --zones A,B,...]\n"
 	"                           [--taxon NAME] [--model steady-state|poisson]\n"
 	"                           [--draws N] [--seed S] [--level L] [--shared-duration]\n"
-	"                           [--format csv|tsv|md|latex|json] [-o FILE]\n\n"
+	"                           [--format csv|tsv|md|latex|json] [-o FILE]\n"
+	"                           [--figure FILE.svg|FILE.pdf|FILE.png [--width-mm W]]\n\n"
 	"From samples stored by 'bathychron injuries import', per group: the prevalence\n"
 	"of regeneration (Wilson interval); the injury incidence from the steady-state\n"
 	"relation P/(1-P) = I x D (Freeman & Hutchison 1980), or with --model poisson\n"
@@ -34,7 +36,10 @@ static const char help[] =
 	"  --shared-duration    one duration draw for all groups (the same regeneration\n"
 	"                       time everywhere; it then cancels in the ratios)\n"
 	"  --format F           csv (default), tsv, md, latex, json\n"
-	"  -o FILE              write to FILE instead of standard output\n\n"
+	"  -o FILE              write to FILE instead of standard output\n"
+	"  --figure FILE        also draw the interval between encounters per row (log\n"
+	"                       scale, with intervals) as SVG, PDF or PNG by extension\n"
+	"  --width-mm W         figure width: 85 (one column, default) or 180 (two)\n\n"
 	"Cautions (also in the output's stamp): steady state assumed; regenerates\n"
 	"recognisable for the whole duration; every regenerate counted as a survived\n"
 	"predatory attack; animals damaged by collecting gear must be excluded before import.\n";
@@ -58,7 +63,8 @@ int cmd_encounter(int argc, char **argv)
 {
 	bc_encounter_options opts = BC_ENCOUNTER_OPTIONS_INIT;
 	bc_format format = BC_FORMAT_CSV;
-	const char *db_path = NULL, *out_path = NULL;
+	const char *db_path = NULL, *out_path = NULL, *figure = NULL;
+	double width_mm = 85;
 	double zones[32];
 	size_t n_zones = 0;
 	int have_split = 0, have_zones = 0;
@@ -115,6 +121,11 @@ int cmd_encounter(int argc, char **argv)
 		} else if (strcmp(a, "--format") == 0) {
 			if (bc_format_parse(&format, v))
 				return cli_usage("encounter", "--format: '%s' is not csv, tsv, md, latex or json", v);
+		} else if (strcmp(a, "--figure") == 0) {
+			figure = v;
+		} else if (strcmp(a, "--width-mm") == 0) {
+			if (cli_parse_double(v, &width_mm) || width_mm < 40 || width_mm > 400)
+				return cli_usage("encounter", "--width-mm: '%s' is not a width between 40 and 400 mm", v);
 		} else if (strcmp(a, "-o") == 0 || strcmp(a, "--output") == 0) {
 			out_path = v;
 		} else {
@@ -123,6 +134,11 @@ int cmd_encounter(int argc, char **argv)
 	}
 	if (!db_path)
 		return cli_usage("encounter", "expected the database file");
+	if (figure) {
+		const char *dot = strrchr(figure, '.');
+		if (!dot || (strcasecmp(dot, ".svg") && strcasecmp(dot, ".pdf") && strcasecmp(dot, ".png")))
+			return cli_usage("encounter", "--figure: '%s' must end in .svg, .pdf or .png", figure);
+	}
 	if (have_split && have_zones)
 		return cli_usage("encounter", "give --split or --zones, not both");
 	if (n_zones) {
@@ -152,6 +168,8 @@ int cmd_encounter(int argc, char **argv)
 		cli_error("%s: writing failed", out_path);
 		status = CLI_ENV;
 	}
+	if (status == CLI_OK && figure && bc_encounter_plot(rep, figure, width_mm, &err) != BC_OK)
+		status = cli_fail(&err);
 	if (status == CLI_OK && bc_encounter_report_straddling(rep) > 0)
 		cli_error("note: %ld samples cross a zone boundary and were left out", bc_encounter_report_straddling(rep));
 done:
