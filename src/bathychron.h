@@ -568,6 +568,75 @@ int bc_encounter_plot(const bc_encounter_report *r, const char *path, double wid
 
 /* == plot section == */
 
+/**
+ * One time bin of a shift figure. The drawing does not depend on how the
+ * numbers were computed: the caller copies them from its shift table.
+ * Counts are doubles so fractional (overlap-split) counts pass through.
+ */
+typedef struct bc_plot_bin {
+	const char *label;     /* bin name ("Campanian", "80-70 Ma"); may be NULL; borrowed */
+	double older_ma;       /* older (lower) bound, Ma; older_ma > younger_ma */
+	double younger_ma;
+	double n;              /* every occurrence in the bin */
+	double n_shallow, n_deep, n_straddle;
+	int has_frac;          /* 0: no shallow or deep occurrence; the bin is a gap, not 0 */
+	double frac;           /* frac_deep = n_deep / (n_shallow + n_deep) */
+	double lo, hi;         /* its confidence interval (Wilson score at opt->level) */
+	int has_band;          /* 1 when a resampling band was computed for this bin */
+	double band_lo, band_mid, band_hi; /* 2.5th, 50th, 97.5th percentiles over draws */
+} bc_plot_bin;
+
+/** Figure file formats, chosen by the output file's extension. */
+typedef enum bc_plot_format {
+	BC_PLOT_SVG = 1,
+	BC_PLOT_PDF,
+	BC_PLOT_PNG
+} bc_plot_format;
+
+/** How to draw a shift figure. Start from BC_PLOT_OPTIONS_INIT. */
+typedef struct bc_plot_options {
+	double width_mm;       /* 85 single column (default), 180 double column */
+	int older_right;       /* 0: older on the left (default); 1: older on the right */
+	const char *title;     /* bold line above the figure; NULL for none */
+	const char *y_label;   /* NULL: "Deep occurrences (share of shallow + deep)" */
+	const char *caption;   /* wrapped below the figure: selection, binning, zoning, chart; NULL for none */
+	int no_caveat;         /* 1: do not append the sentence on interpretation and sampling */
+	double few;            /* bins with n_shallow + n_deep below this are drawn hollow; default 10 */
+	double level;          /* confidence level of lo/hi, for the legend; default 0.95 */
+	bc_rank bar_rank;      /* timescale bar row matching the bins; UNKNOWN: guessed from the bins */
+	bc_rank bar_coarse_rank; /* the row above it; UNKNOWN: period (era when the bins are periods) */
+	double dpi;            /* PNG resolution; default 300 */
+} bc_plot_options;
+
+#define BC_PLOT_OPTIONS_INIT {85.0, 0, NULL, NULL, NULL, 0, 10.0, 0.95, BC_RANK_UNKNOWN, BC_RANK_UNKNOWN, 300.0}
+
+/**
+ * The figure format of `path` by its extension (.svg, .pdf, .png, any
+ * case). Anything else gives BC_EUSAGE with a message naming the choices.
+ */
+int bc_plot_format_from_path(bc_plot_format *out, const char *path, bc_err *err);
+
+/**
+ * Draws the deep share through time (points, line broken at empty bins,
+ * interval bars, the resampling band when present), the counts per bin,
+ * and a timescale bar in the chart's own colours, and writes it to `path`
+ * as SVG, PDF or PNG (by extension). `bins` may come in any order; `chart`
+ * may be NULL (no timescale bar). `opt` NULL means BC_PLOT_OPTIONS_INIT.
+ * Needs the "DejaVu Sans" font (Debian fonts-dejavu-core) for the intended
+ * look; fontconfig substitutes another sans font when it is missing.
+ * Returns 0, BC_EUSAGE (extension, options), BC_EINVALID (a bin's numbers),
+ * BC_EIO (cannot write `path`) or BC_ENOMEM. Nothing is kept from the arguments.
+ */
+int bc_plot_shift(const char *path, const bc_plot_bin *bins, size_t n, const bc_chart *chart,
+		  const bc_plot_options *opt, bc_err *err);
+
+/**
+ * Frees the font caches cairo and fontconfig keep for the whole process,
+ * so leak checkers stay quiet. Call at most at exit, after the last figure,
+ * from a program that uses fontconfig for nothing else. Safe to call twice.
+ */
+void bc_plot_cleanup(void);
+
 /* == end of plot section == */
 
 #ifdef __cplusplus
