@@ -11,24 +11,9 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
-#include <strings.h>
 
 #define FONT "DejaVu Sans" /* the shift figure's font (fonts-dejavu-core) */
 #define PT_PER_MM (72.0 / 25.4)
-
-enum { FIG_SVG = 1, FIG_PDF, FIG_PNG };
-
-static int fig_format(const char *path, bc_err *err)
-{
-	const char *dot = strrchr(path, '.');
-	if (dot && strcasecmp(dot, ".svg") == 0)
-		return FIG_SVG;
-	if (dot && strcasecmp(dot, ".pdf") == 0)
-		return FIG_PDF;
-	if (dot && strcasecmp(dot, ".png") == 0)
-		return FIG_PNG;
-	return bc_err_set(err, BC_EUSAGE, "%s: the figure's name must end in .svg, .pdf or .png", path);
-}
 
 static void fig_font(cairo_t *cr, double size, int bold)
 {
@@ -54,30 +39,37 @@ static void fig_text(cairo_t *cr, double x, double y, double align, const char *
  * the height used. Draws nothing when `draw` is 0 (measuring pass). */
 static double fig_wrap(cairo_t *cr, double x, double y, double w, double lead, const char *s, int draw)
 {
-	char line[800] = "", word[256];
+	char line[1024];
+	size_t len = 0;
 	double used = 0;
 	const char *p = s;
+	line[0] = '\0';
 	while (*p) {
 		size_t n = strcspn(p, " ");
-		if (n >= sizeof word)
-			n = sizeof word - 1;
-		memcpy(word, p, n);
-		word[n] = '\0';
-		p += n;
-		while (*p == ' ')
-			p++;
-		char trial[800];
-		snprintf(trial, sizeof trial, "%s%s%s", line, line[0] ? " " : "", word);
-		if (line[0] && fig_text_width(cr, trial) > w) {
+		if (n > 200)
+			n = 200; /* a very long word is cut, never overflowed */
+		size_t keep = len;
+		if (len + 1 + n + 1 > sizeof line)
+			n = 0;
+		if (len)
+			line[len++] = ' ';
+		memcpy(line + len, p, n);
+		len += n;
+		line[len] = '\0';
+		if (keep && fig_text_width(cr, line) > w) {
+			line[keep] = '\0';
 			if (draw)
 				fig_text(cr, x, y + used, 0, line);
 			used += lead;
-			snprintf(line, sizeof line, "%s", word);
-		} else {
-			snprintf(line, sizeof line, "%s", trial);
+			memmove(line, p, n);
+			len = n;
+			line[len] = '\0';
 		}
+		p += strcspn(p, " ");
+		while (*p == ' ')
+			p++;
 	}
-	if (line[0]) {
+	if (len) {
 		if (draw)
 			fig_text(cr, x, y + used, 0, line);
 		used += lead;
@@ -242,9 +234,10 @@ static void fig_draw(cairo_t *cr, const bc_encounter_report *r, double W, double
 
 int bc_encounter_plot(const bc_encounter_report *r, const char *path, double width_mm, bc_err *err)
 {
-	int fmt = fig_format(path, err);
-	if (fmt < 0)
-		return fmt;
+	bc_plot_format fmt;
+	int rc = bc_plot_format_from_path(&fmt, path, err); /* the shift figure's rule */
+	if (rc)
+		return rc;
 	if (!r || bc_encounter_report_count(r) == 0)
 		return bc_err_set(err, BC_EUSAGE, "%s: nothing to draw", path);
 	if (!(width_mm >= 40 && width_mm <= 400))
@@ -270,19 +263,19 @@ int bc_encounter_plot(const bc_encounter_report *r, const char *path, double wid
 	double H = 210 + caption_h;
 
 	cairo_surface_t *s = NULL;
-	if (fmt == FIG_SVG)
+	if (fmt == BC_PLOT_SVG)
 		s = cairo_svg_surface_create(path, W, H);
-	else if (fmt == FIG_PDF)
+	else if (fmt == BC_PLOT_PDF)
 		s = cairo_pdf_surface_create(path, W, H);
 	else
 		s = cairo_image_surface_create(CAIRO_FORMAT_RGB24, (int)ceil(W * 300 / 72), (int)ceil(H * 300 / 72));
 	cairo_t *cr = cairo_create(s);
-	if (fmt == FIG_PNG)
+	if (fmt == BC_PLOT_PNG)
 		cairo_scale(cr, 300.0 / 72, 300.0 / 72);
 	fig_draw(cr, r, W, H, caption_h, caption);
 	cairo_status_t st = cairo_status(cr);
 	cairo_destroy(cr);
-	if (st == CAIRO_STATUS_SUCCESS && fmt == FIG_PNG)
+	if (st == CAIRO_STATUS_SUCCESS && fmt == BC_PLOT_PNG)
 		st = cairo_surface_write_to_png(s, path);
 	cairo_surface_finish(s);
 	if (st == CAIRO_STATUS_SUCCESS)

@@ -6,7 +6,6 @@
 
 #include <stdlib.h>
 #include <string.h>
-#include <strings.h>
 
 static const char help[] =
 	"usage: bathychron encounter DB [--by zone|site|bin] [--split METRES | --zones A,B,...]\n"
@@ -134,10 +133,11 @@ int cmd_encounter(int argc, char **argv)
 	}
 	if (!db_path)
 		return cli_usage("encounter", "expected the database file");
+	bc_err err = {0};
 	if (figure) {
-		const char *dot = strrchr(figure, '.');
-		if (!dot || (strcasecmp(dot, ".svg") && strcasecmp(dot, ".pdf") && strcasecmp(dot, ".png")))
-			return cli_usage("encounter", "--figure: '%s' must end in .svg, .pdf or .png", figure);
+		bc_plot_format pf;
+		if (bc_plot_format_from_path(&pf, figure, &err) != BC_OK)
+			return cli_usage("encounter", "--figure: %s", err.msg);
 	}
 	if (have_split && have_zones)
 		return cli_usage("encounter", "give --split or --zones, not both");
@@ -145,7 +145,6 @@ int cmd_encounter(int argc, char **argv)
 		opts.zones = zones;
 		opts.n_zones = n_zones;
 	}
-	bc_err err = {0};
 	bc_db *db = NULL;
 	bc_encounter_report *rep = NULL;
 	FILE *f = stdout;
@@ -173,6 +172,8 @@ int cmd_encounter(int argc, char **argv)
 	if (status == CLI_OK && bc_encounter_report_straddling(rep) > 0)
 		cli_error("note: %ld samples cross a zone boundary and were left out", bc_encounter_report_straddling(rep));
 done:
+	if (figure)
+		bc_plot_cleanup();
 	bc_encounter_report_free(rep);
 	bc_db_close(db);
 	return status;
