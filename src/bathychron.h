@@ -481,7 +481,7 @@ typedef struct bc_injuries_import_result {
 } bc_injuries_import_result;
 
 /**
- * Imports a CSV/TSV of injury samples (columns: doc/injuries.md) in one
+ * Imports a CSV/TSV of injury samples (columns: doc/encounter.md) in one
  * transaction with one import_batches row of kind 'injuries'. Every row
  * that cannot be used goes to the quarantine with file, line, field,
  * reason and the raw row; the import still succeeds (check
