@@ -6,6 +6,7 @@
 #include "db.h"
 
 #include <stdlib.h>
+#include <unistd.h>
 
 static const char *write_file(const char *dir, const char *name, const char *text)
 {
@@ -247,4 +248,37 @@ TEST(injuries_encounter_report_by_zone)
 	CHECK_INT(bc_encounter_report_build(&r, db, &o, &err), BC_ENOTFOUND);
 	CHECK(r == NULL);
 	bc_db_close(db);
+}
+
+/* Every allocation of an import and a report can fail without a crash or a
+ * leak (the sanitizer build checks the leaks); a failed import stores nothing. */
+TEST(injuries_allocation_failures)
+{
+	bc_err err = {0};
+	const char *dir = test_tmpdir();
+	const char *csv = write_file(dir, "s.csv", SURVEY);
+	int failures = 0;
+	for (long k = 1; k < 400; k++) {
+		bc_db *db = NULL;
+		char dbp[512];
+		snprintf(dbp, sizeof dbp, "%s/a%ld.gpkg", dir, k);
+		CHECK_OK(bc_db_create(&db, dbp, &err), &err);
+		bc_injuries_import_result res;
+		bc__alloc_fail_after(k);
+		int rc = bc_injuries_import(&res, db, csv, NULL, &err);
+		bc_encounter_report *r = NULL;
+		int rc2 = rc == BC_OK ? bc_encounter_report_build(&r, db, NULL, &err) : BC_ENOMEM;
+		bc__alloc_fail_after(0);
+		if (rc != BC_OK) {
+			failures++;
+			CHECK_INT(query_num(db, "SELECT count(*) FROM injury_samples"), 0);
+		}
+		CHECK(rc2 == BC_OK || r == NULL);
+		bc_encounter_report_free(r);
+		bc_db_close(db);
+		unlink(dbp);
+		if (rc == BC_OK && rc2 == BC_OK)
+			break;
+	}
+	CHECK(failures > 0);
 }
