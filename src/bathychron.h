@@ -371,6 +371,136 @@ int bc_coverage_occurrences(bc_coverage *out, bc_db *db, const int64_t *pks, siz
 
 /* == shift section == */
 
+/*
+ * The occurrence-shift table: per stratigraphic bin, how many selected
+ * occurrences were shallow, deep or straddling the depth boundary, the
+ * deep share with a Wilson interval, the change from the previous bin,
+ * and trend tests across bins. doc/shift.md states every rule.
+ */
+
+/** How bins are made. */
+typedef enum bc_bin_scheme {
+	BC_BINS_STAGE = 0, /* chart intervals of rank age (stage) */
+	BC_BINS_EPOCH,     /* rank epoch (series) */
+	BC_BINS_PERIOD,    /* rank period (system) */
+	BC_BINS_WIDTH,     /* equal widths in Myr, edges at multiples of the width from 0 Ma */
+	BC_BINS_FILE       /* a TSV/CSV file: name, older bound, younger bound (Ma) */
+} bc_bin_scheme;
+
+/** What to do with an occurrence whose age range crosses bin edges. */
+typedef enum bc_span_rule {
+	BC_SPAN_MAJORITY = 0, /* the one bin holding most of the range (ties: the older bin) */
+	BC_SPAN_ALL,          /* counted once in every bin the range overlaps */
+	BC_SPAN_SPLIT,        /* fractional counts, in proportion to the overlap */
+	BC_SPAN_MAX           /* left out when the range is longer than span_max_myr; majority otherwise */
+} bc_span_rule;
+
+#define BC_SHIFT_MAX_ZONES 16
+
+/**
+ * Options of bc_shift_compute. Strings are borrowed: they must outlive
+ * the computation. Fill with BC_SHIFT_OPTIONS_INIT, then set fields
+ * directly or by name with bc_shift_option_set().
+ */
+typedef struct bc_shift_options {
+	/* selection (NULL: no restriction) */
+	const char *group;          /* taxon_group, case-insensitive (ASCII) */
+	const char *taxon;          /* scientific name, genus, family or order; case-insensitive */
+	const char *preservation;   /* articulation class, or a preservation term */
+	int has_region;
+	double region[4];           /* west, south, east, north (degrees, WGS 84); west > east crosses 180 */
+	/* binning */
+	const char *timescale;      /* stored chart name; NULL: the database's default */
+	const bc_chart *chart;      /* if set, used instead of reading `timescale` (borrowed) */
+	bc_bin_scheme bins;
+	double bin_width;           /* Myr, BC_BINS_WIDTH */
+	const char *bins_file;      /* BC_BINS_FILE */
+	bc_span_rule span;
+	double span_max_myr;        /* BC_SPAN_MAX */
+	/* zoning: boundaries in metres, strictly increasing; n_zones == 1 is --split */
+	size_t n_zones;
+	double zones[BC_SHIFT_MAX_ZONES];
+	int zones_given;            /* 1 when set by --zones (per-zone columns are written) */
+	/* statistics */
+	double level;               /* confidence level of every interval */
+} bc_shift_options;
+
+/** Defaults: no selection, default chart, stage bins, majority rule, split at 200 m, 95 %. */
+#define BC_SHIFT_OPTIONS_INIT { NULL, NULL, NULL, 0, {0, 0, 0, 0}, NULL, NULL, BC_BINS_STAGE, 0.0, NULL, \
+	BC_SPAN_MAJORITY, 0.0, 1, {200.0}, 0, 0.95 }
+
+/**
+ * Sets one option by its command-line name without the dashes ("group",
+ * "taxon", "preservation", "region", "timescale", "bins", "span", "split",
+ * "zones", "level"). `value` is borrowed where the field is a string.
+ * Returns 0, or BC_EUSAGE with a message naming the option.
+ */
+int bc_shift_option_set(bc_shift_options *opts, const char *name, const char *value, bc_err *err);
+
+/** One bin of the table. Counts are doubles: --span split gives fractions. */
+typedef struct bc_shift_bin {
+	const char *name;           /* chart interval name, "W-W Ma" for width bins, or the file's name */
+	double older_ma, younger_ma;
+	double n;                   /* n_shallow + n_deep + n_straddle */
+	double n_shallow, n_deep, n_straddle;
+	double frac_deep;           /* n_deep / (n_shallow + n_deep); NaN when that is 0 */
+	double frac_deep_lo, frac_deep_hi; /* Wilson score interval; NaN when no data */
+	size_t n_references;        /* distinct reference keys among its occurrences ("" not counted) */
+	size_t n_localities;        /* distinct localities (occurrences without one not counted) */
+	double n_articulated, n_partly_articulated, n_disarticulated, n_articulation_unknown;
+	double diff, diff_lo, diff_hi; /* frac_deep(this) - frac_deep(previous, older bin); Newcombe hybrid score; NaN if undefined */
+	double fisher_p;            /* two-sided Fisher exact p of the same pair (counts rounded with --span split) */
+	const double *n_zone;       /* with --zones: n_zones + 1 counts, shallowest first; else NULL. Borrowed. */
+	double n_zone_straddle;     /* with --zones: ranges crossing at least one boundary */
+} bc_shift_bin;
+
+/** Tests across the bins that have shallow or deep occurrences. NaN when not computable. */
+typedef struct bc_shift_tests {
+	size_t n_bins_tested;
+	double trend_z, trend_p;          /* Cochran-Armitage, Armitage z (N form), scores = -midpoint age */
+	double logit_intercept, logit_slope, logit_slope_se, logit_p; /* slope: log-odds of deep per Myr toward the present */
+	int logit_converged;
+	double break_ma;                  /* boundary age of the most likely single breakpoint */
+	const char *break_before, *break_after; /* the bins either side (older, younger). Borrowed. */
+	double break_lr;                  /* 2 (logL split - logL constant) */
+} bc_shift_tests;
+
+/** What the selection and the rules did to the data. */
+typedef struct bc_shift_summary {
+	size_t n_selected;          /* rows matching group/taxon/preservation */
+	size_t n_outside_region;    /* left out by --region (coordinates outside the box) */
+	size_t n_no_coordinates;    /* left out by --region (locality without coordinates) */
+	size_t n_no_depth;          /* left out: no palaeodepth */
+	size_t n_too_long;          /* left out by --span max:MYR */
+	size_t n_outside_bins;      /* left out: age range outside every bin */
+	size_t n_used;              /* counted */
+	size_t n_multi_bin;         /* of n_used: age range overlapping more than one bin */
+	char data_sha256[65];       /* SHA-256 of the selected rows (doc/shift.md gives the byte layout) */
+} bc_shift_summary;
+
+typedef struct bc_shift bc_shift;
+
+/**
+ * Selects, bins, zones, counts and tests. A selection that matches no
+ * occurrence, or leaves none to count, fails with BC_EINVALID and a
+ * message saying what was excluded. The result is the caller's; free it
+ * with bc_shift_free().
+ */
+int bc_shift_compute(bc_shift **out, bc_db *db, const bc_shift_options *opts, bc_err *err);
+void bc_shift_free(bc_shift *s);
+
+/** Number of bins (oldest first) and one bin. Borrowed from `s`. */
+size_t bc_shift_bin_count(const bc_shift *s);
+const bc_shift_bin *bc_shift_bin_at(const bc_shift *s, size_t i);
+const bc_shift_tests *bc_shift_tests_get(const bc_shift *s);
+const bc_shift_summary *bc_shift_summary_get(const bc_shift *s);
+
+/** Writes the table with its tests and methods stamp in `format`. */
+int bc_shift_write(const bc_shift *s, FILE *f, bc_format format, bc_err *err);
+
+/** Writes a methods paragraph (plain text) describing exactly what was done, with references. */
+int bc_shift_write_methods(const bc_shift *s, FILE *f, bc_err *err);
+
 /* == end of shift section == */
 
 /* ------------------------------------------------------------------ */
