@@ -7,6 +7,7 @@
 #include "db.h"
 #include "encounter.h"
 #include "output.h"
+#include "shift.h"
 
 #include <math.h>
 #include <stdlib.h>
@@ -42,6 +43,7 @@ struct bc_encounter_report {
 	size_t n, cap;
 	long n_straddle;
 	long n_samples;
+	char data_sha256[65]; /* of the samples read, for the stamp */
 	char *db_path;
 	char *taxon;
 };
@@ -62,24 +64,6 @@ int bc_encounter_by_parse(bc_encounter_by *out, const char *name)
 	else
 		return BC_EUSAGE;
 	return BC_OK;
-}
-
-/* The zone of [dmin, dmax] against increasing boundaries, the rule of
- * design.md's --split at each boundary S: above when max <= S and min < S,
- * below when min >= S. -1 when the range crosses a boundary. */
-static int enc_zone(double dmin, double dmax, const double *b, size_t nb)
-{
-	int z = 0;
-	for (size_t i = 0; i < nb; i++) {
-		if (dmax <= b[i] && dmin < b[i])
-			return z;
-		if (dmin >= b[i]) {
-			z++;
-			continue;
-		}
-		return -1;
-	}
-	return z;
 }
 
 static char *zone_label(const double *b, size_t nb, int z)
@@ -173,10 +157,16 @@ static int read_samples(bc_encounter_report *r, bc_db *db, bc_err *err)
 	if (rc)
 		return rc;
 	bc_db__bind_text(st, ":taxon", r->taxon);
+	bc_buf data = {0};
 	int step;
 	while ((step = sqlite3_step(st)) == SQLITE_ROW) {
 		double dmin = sqlite3_column_double(st, 1), dmax = sqlite3_column_double(st, 2);
-		int zone = enc_zone(dmin, dmax, r->zones, r->n_zones);
+		for (int c = 0; c < sqlite3_column_count(st) && rc == BC_OK; c++)
+			if (bc__buf_puts(&data, col_text(st, c)) || bc__buf_puts(&data, c + 1 < sqlite3_column_count(st) ? "\t" : "\n"))
+				rc = bc_err_set(err, BC_ENOMEM, "out of memory");
+		if (rc)
+			break;
+		int zone = bc_shift__zone(dmin, dmax, r->zones, r->n_zones); /* the shift table's rule */
 		r->n_samples++;
 		if (zone < 0) {
 			r->n_straddle++;
@@ -220,6 +210,8 @@ static int read_samples(bc_encounter_report *r, bc_db *db, bc_err *err)
 	}
 	if (rc == BC_OK && step != SQLITE_DONE)
 		rc = bc_db__error(db, err, "reading injury samples");
+	bc__sha256_hex(data.data ? data.data : "", data.len, r->data_sha256);
+	bc__buf_free(&data);
 	sqlite3_finalize(st);
 	return rc;
 }
@@ -483,6 +475,11 @@ static int fill_table(const bc_encounter_report *r, bc_table *t, bc_err *err)
 	rc = bc_output__set_caption(t, "Injury incidence and mean interval between injuring encounters, from the prevalence of regenerating arms", err);
 	rc = rc ? rc : bc_output__meta_text(t, S, "tool", err, "bathychron %s", BC_VERSION);
 	rc = rc ? rc : bc_output__meta_text(t, S, "database", err, "%s", r->db_path);
+	rc = rc ? rc : bc_output__meta_text(t, S, "data_sha256", err, "%s", r->data_sha256);
+	rc = rc ? rc : bc_output__meta_num(t, S, "samples", (double)r->n_samples, 0, err);
+	rc = rc ? rc : bc_output__meta_num(t, S, "level", mc->level, 0, err);
+	rc = rc ? rc : bc_output__meta_num(t, S, "draws", (double)mc->draws, 0, err);
+	rc = rc ? rc : bc_output__meta_text(t, S, "seed", err, "%llu", (unsigned long long)mc->seed);
 	rc = rc ? rc : bc_output__meta_text(t, S, "grouping", err, "by %s%s%s", bc_encounter_by_name(r->opts.by),
 					    r->taxon ? "; taxon " : "", r->taxon ? r->taxon : "");
 	rc = rc ? rc : bc_output__meta_text(t, S, "zones", err,
