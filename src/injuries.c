@@ -134,9 +134,16 @@ static const char *cell(const injuries_ctx *c, int col)
 	return bc_csv__field(c->csv, (size_t)i);
 }
 
+/* The column's header as the file spells it, or its canonical name when
+ * the file has no such column. */
 static const char *header(const injuries_ctx *c, int col)
 {
-	return c->col[col] >= 0 ? c->headers[c->col[col]] : injuries_names[0].name;
+	if (c->col[col] >= 0)
+		return c->headers[c->col[col]];
+	for (size_t i = 0; i < sizeof injuries_names / sizeof injuries_names[0]; i++)
+		if (injuries_names[i].col == col)
+			return injuries_names[i].name;
+	return "row";
 }
 
 static int blank(const char *s)
@@ -226,7 +233,7 @@ static int read_depth(const injuries_ctx *c, injuries_row *r, injuries_problem *
 		return BC_OK;
 	}
 	if (blank(smin) && blank(smax))
-		return problem(p, c->col[C_MIN_DEPTH] >= 0 ? header(c, C_MIN_DEPTH) : "minimumDepthInMeters",
+		return problem(p, header(c, C_MIN_DEPTH),
 			       "no depth: every sample needs a depth or depth range in metres");
 	if (!blank(smin) && parse_number(smin, &r->dmin))
 		return problem(p, header(c, C_MIN_DEPTH), "'%s' is not a number of metres", smin);
@@ -285,7 +292,7 @@ static int read_counts(const injuries_ctx *c, injuries_row *r, injuries_problem 
 	if (has_ind) {
 		r->kind = "sample";
 		if (!has_ind_regen)
-			return problem(p, c->col[C_IND_REGEN] >= 0 ? header(c, C_IND_REGEN) : "individualsRegenerating",
+			return problem(p, header(c, C_IND_REGEN),
 				       "individuals examined needs individuals regenerating (those with at least one regenerating arm)");
 		if ((rc = read_count(c, C_IND_EXAM, &r->ind_exam, p)) || (rc = read_count(c, C_IND_REGEN, &r->ind_regen, p)))
 			return rc;
@@ -301,7 +308,7 @@ static int read_counts(const injuries_ctx *c, injuries_row *r, injuries_problem 
 		return BC_OK;
 	}
 	if (!has_arms)
-		return problem(p, c->col[C_IND_EXAM] >= 0 ? header(c, C_IND_EXAM) : "individualsExamined",
+		return problem(p, header(c, C_IND_EXAM),
 			       "no counts: give individualsExamined and individualsRegenerating for a sample, "
 			       "or armsExamined and armsRegenerating for one individual");
 	/* One individual. */
@@ -332,11 +339,10 @@ static int read_duration(const injuries_ctx *c, injuries_row *r, injuries_proble
 		return BC_OK;
 	}
 	if (blank(len) && blank(rate))
-		return problem(p, c->col[C_DAYS] >= 0 ? header(c, C_DAYS) : "regenerationDays",
+		return problem(p, header(c, C_DAYS),
 			       "no duration: give regenerationDays, or regenerateLengthMm with regenerationRateMmPerDay");
 	if (blank(len) || blank(rate))
-		return problem(p, blank(len) ? (c->col[C_LENGTH] >= 0 ? header(c, C_LENGTH) : "regenerateLengthMm")
-					     : (c->col[C_RATE] >= 0 ? header(c, C_RATE) : "regenerationRateMmPerDay"),
+		return problem(p, header(c, blank(len) ? C_LENGTH : C_RATE),
 			       "the duration from length and rate needs both");
 	if (parse_range(len, &r->lmin, &r->lmax) || !(r->lmin > 0))
 		return problem(p, header(c, C_LENGTH), "'%s' is not a positive length in mm or a range", len);
@@ -360,12 +366,12 @@ static int read_row(injuries_ctx *c, injuries_row *r, injuries_problem *p)
 	r->sample_id = cell(c, C_SAMPLE_ID);
 	r->site = cell(c, C_SITE);
 	if (blank(r->site))
-		return problem(p, c->col[C_SITE] >= 0 ? header(c, C_SITE) : "locality", "no site: every sample needs its locality");
+		return problem(p, header(c, C_SITE), "no site: every sample needs its locality");
 	if ((rc = read_depth(c, r, p)) || (rc = read_age(c, r, p)))
 		return rc;
 	r->taxon = cell(c, C_TAXON);
 	if (blank(r->taxon))
-		return problem(p, c->col[C_TAXON] >= 0 ? header(c, C_TAXON) : "scientificName", "no taxon");
+		return problem(p, header(c, C_TAXON), "no taxon");
 	if ((rc = read_counts(c, r, p)) || (rc = read_duration(c, r, p)))
 		return rc;
 	r->recorded_by = cell(c, C_RECORDED_BY);
