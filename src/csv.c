@@ -349,6 +349,11 @@ static int csv_fill(bc_csv *c, bc_err *err)
 				c->delim = csv_detect((const char *)s, len);
 			csv_set_delim(&c->p, (unsigned char)c->delim);
 			csv_set_space_func(&c->p, csv_is_space); /* libcsv's default line ends (CR, LF) stay */
+			/* libcsv grows a cell by blk_size (default 128 bytes) per
+			 * realloc: with an allocator that copies on every realloc
+			 * (sanitizers, valgrind, some libcs) a long cell costs
+			 * quadratic time. 64 KiB steps keep a 16 MB cell cheap. */
+			csv_set_blk_size(&c->p, 64 * 1024);
 		}
 		if (csv_parse(&c->p, s, len, cb_field, cb_record, c) != len)
 			return bc_err_set(err, c->oom || csv_error(&c->p) == CSV_ENOMEM ? BC_ENOMEM : BC_EINVALID, "%s:%ld: %s",
