@@ -2,6 +2,7 @@
 #   make deps    check (and on Debian as root, install) the dependencies
 #   make         static and shared library and the program
 #   make test    every test, plus the unit suite under ASan/UBSan
+#   make test-san  every test again with the program built under ASan/UBSan
 #   make demo    the main job on the invented demo data set
 #   make bench   benchmarks (speed and memory; never part of make test)
 #   make fuzz    libFuzzer targets for a set time each (FUZZ_SECONDS=60)
@@ -17,7 +18,7 @@ PKGS := sqlite3 proj libxml-2.0 cairo libutf8proc libzip nettle
 # Debian package for each pkg-config name (same order), plus tools the tests use.
 DEB_DEV := libsqlite3-dev libproj-dev libxml2-dev libcairo2-dev libutf8proc-dev libzip-dev nettle-dev libcsv-dev
 DEB_TOOLS := pkg-config gcc make proj-data sqlite3 gdal-bin python3 python3-scipy python3-statsmodels \
-	python3-pandas python3-lxml poppler-utils librsvg2-bin geographiclib-tools proj-bin zip unzip fonts-dejavu-core clang libclang-rt-14-dev valgrind
+	python3-pandas python3-lxml poppler-utils librsvg2-bin geographiclib-tools proj-bin zip unzip fonts-dejavu-core clang libclang-rt-14-dev
 
 WARN := -Wall -Wextra -Wshadow -Wundef -Wwrite-strings -Wstrict-prototypes \
 	-Wmissing-prototypes -Wformat=2 -Wno-format-nonliteral
@@ -104,6 +105,16 @@ test: deps
 		CFLAGS_ALL_LD="-fsanitize=address,undefined" build-san/unit-tests build-san/bathychron
 	@$(MAKE) --no-print-directory fuzz-targets
 	@sh tests/run.sh
+
+# The whole suite again with the program built under ASan/UBSan: every CLI
+# test runs build-san/bathychron; a sanitizer report fails the test it is in.
+SAN_ENV := ASAN_OPTIONS=detect_leaks=1:exitcode=86 UBSAN_OPTIONS=halt_on_error=1:print_stacktrace=1
+test-san: deps
+	@$(MAKE) --no-print-directory all $(B)/unit-tests
+	@$(MAKE) --no-print-directory B=build-san OPT="-O1 -g -fsanitize=address,undefined -fno-omit-frame-pointer -fno-sanitize-recover=undefined" \
+		CFLAGS_ALL_LD="-fsanitize=address,undefined" build-san/unit-tests build-san/bathychron
+	@$(MAKE) --no-print-directory fuzz-targets
+	@$(SAN_ENV) BC_PROGRAM=$(CURDIR)/build-san/bathychron sh tests/run.sh
 
 test-unit: all $(B)/unit-tests
 	$(B)/unit-tests
