@@ -199,6 +199,50 @@ int bc_timescale_store(bc_db *db, const bc_chart *chart, const char *loaded_from
 /** Reads a stored chart; `name` NULL means the database's default. */
 int bc_timescale_get(bc_chart **out, bc_db *db, const char *name, bc_err *err);
 
+/*
+ * Additions beyond the declarations above (same section, same owner).
+ */
+
+/**
+ * Like bc_timescale_store, but a stored chart of the same name is replaced
+ * (its intervals and labels too) in the same transaction; a replaced
+ * default chart stays the default. Occurrences already resolved keep their
+ * stored ages: re-import to resolve them against the new chart.
+ */
+int bc_timescale_replace(bc_db *db, const bc_chart *chart, const char *loaded_from, int make_default, bc_err *err);
+
+/** One stored chart, as listed by bc_timescale_list. */
+typedef struct bc_timescale_info {
+	char name[128];
+	int is_default;
+	size_t n_intervals;
+	char source[1024];
+	char licence[256];
+	char loaded_from[512];
+	char loaded_at[32];
+} bc_timescale_info;
+
+/**
+ * The stored charts, default first, then by name. `*out` is the caller's
+ * (free it with free()); `*n` is its length.
+ */
+int bc_timescale_list(bc_timescale_info **out, size_t *n, bc_db *db, bc_err *err);
+
+/**
+ * Gives each interval of `dst` without a colour the colour of the interval
+ * of `src` with the same IRI (or, failing that, the same English name),
+ * recording `colour_source` (e.g. "ICS 2024-12 chart colours"). Returns
+ * the number of intervals coloured (>= 0) or a negative code.
+ */
+int bc_chart_copy_colours(bc_chart *dst, const bc_chart *src, const char *colour_source, bc_err *err);
+
+/**
+ * Reads a chart from a file by its form: SKOS RDF/XML (.rdf, .xml, .owl,
+ * or a file starting with '<') or the project's TSV. `name` NULL names it
+ * from the file name ("ics-chart-2020.skos.rdf" -> "ics-chart-2020").
+ */
+int bc_chart_load_file(bc_chart **out, const char *path, const char *name, bc_err *err);
+
 /* == end of chart loading section == */
 
 /* ------------------------------------------------------------------ */
@@ -327,6 +371,136 @@ int bc_coverage_occurrences(bc_coverage *out, bc_db *db, const int64_t *pks, siz
 
 /* == shift section == */
 
+/*
+ * The occurrence-shift table: per stratigraphic bin, how many selected
+ * occurrences were shallow, deep or straddling the depth boundary, the
+ * deep share with a Wilson interval, the change from the previous bin,
+ * and trend tests across bins. doc/shift.md states every rule.
+ */
+
+/** How bins are made. */
+typedef enum bc_bin_scheme {
+	BC_BINS_STAGE = 0, /* chart intervals of rank age (stage) */
+	BC_BINS_EPOCH,     /* rank epoch (series) */
+	BC_BINS_PERIOD,    /* rank period (system) */
+	BC_BINS_WIDTH,     /* equal widths in Myr, edges at multiples of the width from 0 Ma */
+	BC_BINS_FILE       /* a TSV/CSV file: name, older bound, younger bound (Ma) */
+} bc_bin_scheme;
+
+/** What to do with an occurrence whose age range crosses bin edges. */
+typedef enum bc_span_rule {
+	BC_SPAN_MAJORITY = 0, /* the one bin holding most of the range (ties: the older bin) */
+	BC_SPAN_ALL,          /* counted once in every bin the range overlaps */
+	BC_SPAN_SPLIT,        /* fractional counts, in proportion to the overlap */
+	BC_SPAN_MAX           /* left out when the range is longer than span_max_myr; majority otherwise */
+} bc_span_rule;
+
+#define BC_SHIFT_MAX_ZONES 16
+
+/**
+ * Options of bc_shift_compute. Strings are borrowed: they must outlive
+ * the computation. Fill with BC_SHIFT_OPTIONS_INIT, then set fields
+ * directly or by name with bc_shift_option_set().
+ */
+typedef struct bc_shift_options {
+	/* selection (NULL: no restriction) */
+	const char *group;          /* taxon_group, case-insensitive (ASCII) */
+	const char *taxon;          /* scientific name, genus, family or order; case-insensitive */
+	const char *preservation;   /* articulation class, or a preservation term */
+	int has_region;
+	double region[4];           /* west, south, east, north (degrees, WGS 84); west > east crosses 180 */
+	/* binning */
+	const char *timescale;      /* stored chart name; NULL: the database's default */
+	const bc_chart *chart;      /* if set, used instead of reading `timescale` (borrowed) */
+	bc_bin_scheme bins;
+	double bin_width;           /* Myr, BC_BINS_WIDTH */
+	const char *bins_file;      /* BC_BINS_FILE */
+	bc_span_rule span;
+	double span_max_myr;        /* BC_SPAN_MAX */
+	/* zoning: boundaries in metres, strictly increasing; n_zones == 1 is --split */
+	size_t n_zones;
+	double zones[BC_SHIFT_MAX_ZONES];
+	int zones_given;            /* 1 when set by --zones (per-zone columns are written) */
+	/* statistics */
+	double level;               /* confidence level of every interval */
+} bc_shift_options;
+
+/** Defaults: no selection, default chart, stage bins, majority rule, split at 200 m, 95 %. */
+#define BC_SHIFT_OPTIONS_INIT { NULL, NULL, NULL, 0, {0, 0, 0, 0}, NULL, NULL, BC_BINS_STAGE, 0.0, NULL, \
+	BC_SPAN_MAJORITY, 0.0, 1, {200.0}, 0, 0.95 }
+
+/**
+ * Sets one option by its command-line name without the dashes ("group",
+ * "taxon", "preservation", "region", "timescale", "bins", "span", "split",
+ * "zones", "level"). `value` is borrowed where the field is a string.
+ * Returns 0, or BC_EUSAGE with a message naming the option.
+ */
+int bc_shift_option_set(bc_shift_options *opts, const char *name, const char *value, bc_err *err);
+
+/** One bin of the table. Counts are doubles: --span split gives fractions. */
+typedef struct bc_shift_bin {
+	const char *name;           /* chart interval name, "W-W Ma" for width bins, or the file's name */
+	double older_ma, younger_ma;
+	double n;                   /* n_shallow + n_deep + n_straddle */
+	double n_shallow, n_deep, n_straddle;
+	double frac_deep;           /* n_deep / (n_shallow + n_deep); NaN when that is 0 */
+	double frac_deep_lo, frac_deep_hi; /* Wilson score interval; NaN when no data */
+	size_t n_references;        /* distinct reference keys among its occurrences ("" not counted) */
+	size_t n_localities;        /* distinct localities (occurrences without one not counted) */
+	double n_articulated, n_partly_articulated, n_disarticulated, n_articulation_unknown;
+	double diff, diff_lo, diff_hi; /* frac_deep(this) - frac_deep(previous, older bin); Newcombe hybrid score; NaN if undefined */
+	double fisher_p;            /* two-sided Fisher exact p of the same pair (counts rounded with --span split) */
+	const double *n_zone;       /* with --zones: n_zones + 1 counts, shallowest first; else NULL. Borrowed. */
+	double n_zone_straddle;     /* with --zones: ranges crossing at least one boundary */
+} bc_shift_bin;
+
+/** Tests across the bins that have shallow or deep occurrences. NaN when not computable. */
+typedef struct bc_shift_tests {
+	size_t n_bins_tested;
+	double trend_z, trend_p;          /* Cochran-Armitage, Armitage z (N form), scores = -midpoint age */
+	double logit_intercept, logit_slope, logit_slope_se, logit_p; /* slope: log-odds of deep per Myr toward the present */
+	int logit_converged;
+	double break_ma;                  /* boundary age of the most likely single breakpoint */
+	const char *break_before, *break_after; /* the bins either side (older, younger). Borrowed. */
+	double break_lr;                  /* 2 (logL split - logL constant) */
+} bc_shift_tests;
+
+/** What the selection and the rules did to the data. */
+typedef struct bc_shift_summary {
+	size_t n_selected;          /* rows matching group/taxon/preservation */
+	size_t n_outside_region;    /* left out by --region (coordinates outside the box) */
+	size_t n_no_coordinates;    /* left out by --region (locality without coordinates) */
+	size_t n_no_depth;          /* left out: no palaeodepth */
+	size_t n_too_long;          /* left out by --span max:MYR */
+	size_t n_outside_bins;      /* left out: age range outside every bin */
+	size_t n_used;              /* counted */
+	size_t n_multi_bin;         /* of n_used: age range overlapping more than one bin */
+	char data_sha256[65];       /* SHA-256 of the selected rows (doc/shift.md gives the byte layout) */
+} bc_shift_summary;
+
+typedef struct bc_shift bc_shift;
+
+/**
+ * Selects, bins, zones, counts and tests. A selection that matches no
+ * occurrence, or leaves none to count, fails with BC_EINVALID and a
+ * message saying what was excluded. The result is the caller's; free it
+ * with bc_shift_free().
+ */
+int bc_shift_compute(bc_shift **out, bc_db *db, const bc_shift_options *opts, bc_err *err);
+void bc_shift_free(bc_shift *s);
+
+/** Number of bins (oldest first) and one bin. Borrowed from `s`. */
+size_t bc_shift_bin_count(const bc_shift *s);
+const bc_shift_bin *bc_shift_bin_at(const bc_shift *s, size_t i);
+const bc_shift_tests *bc_shift_tests_get(const bc_shift *s);
+const bc_shift_summary *bc_shift_summary_get(const bc_shift *s);
+
+/** Writes the table with its tests and methods stamp in `format`. */
+int bc_shift_write(const bc_shift *s, FILE *f, bc_format format, bc_err *err);
+
+/** Writes a methods paragraph (plain text) describing exactly what was done, with references. */
+int bc_shift_write_methods(const bc_shift *s, FILE *f, bc_err *err);
+
 /* == end of shift section == */
 
 /* ------------------------------------------------------------------ */
@@ -334,6 +508,75 @@ int bc_coverage_occurrences(bc_coverage *out, bc_db *db, const int64_t *pks, siz
 /* ------------------------------------------------------------------ */
 
 /* == plot section == */
+
+/**
+ * One time bin of a shift figure. The drawing does not depend on how the
+ * numbers were computed: the caller copies them from its shift table.
+ * Counts are doubles so fractional (overlap-split) counts pass through.
+ */
+typedef struct bc_plot_bin {
+	const char *label;     /* bin name ("Campanian", "80-70 Ma"); may be NULL; borrowed */
+	double older_ma;       /* older (lower) bound, Ma; older_ma > younger_ma */
+	double younger_ma;
+	double n;              /* every occurrence in the bin */
+	double n_shallow, n_deep, n_straddle;
+	int has_frac;          /* 0: no shallow or deep occurrence; the bin is a gap, not 0 */
+	double frac;           /* frac_deep = n_deep / (n_shallow + n_deep) */
+	double lo, hi;         /* its confidence interval (Wilson score at opt->level) */
+	int has_band;          /* 1 when a resampling band was computed for this bin */
+	double band_lo, band_mid, band_hi; /* 2.5th, 50th, 97.5th percentiles over draws */
+} bc_plot_bin;
+
+/** Figure file formats, chosen by the output file's extension. */
+typedef enum bc_plot_format {
+	BC_PLOT_SVG = 1,
+	BC_PLOT_PDF,
+	BC_PLOT_PNG
+} bc_plot_format;
+
+/** How to draw a shift figure. Start from BC_PLOT_OPTIONS_INIT. */
+typedef struct bc_plot_options {
+	double width_mm;       /* 85 single column (default), 180 double column */
+	int older_right;       /* 0: older on the left (default); 1: older on the right */
+	const char *title;     /* bold line above the figure; NULL for none */
+	const char *y_label;   /* NULL: "Deep occurrences (share of shallow + deep)" */
+	const char *caption;   /* wrapped below the figure: selection, binning, zoning, chart; NULL for none */
+	int no_caveat;         /* 1: do not append the sentence on interpretation and sampling */
+	double few;            /* bins with n_shallow + n_deep below this are drawn hollow; default 10 */
+	double level;          /* confidence level of lo/hi, for the legend; default 0.95 */
+	bc_rank bar_rank;      /* timescale bar row matching the bins; UNKNOWN: guessed from the bins */
+	bc_rank bar_coarse_rank; /* the row above it; UNKNOWN: period (era when the bins are periods) */
+	double dpi;            /* PNG resolution; default 300 */
+} bc_plot_options;
+
+#define BC_PLOT_OPTIONS_INIT {85.0, 0, NULL, NULL, NULL, 0, 10.0, 0.95, BC_RANK_UNKNOWN, BC_RANK_UNKNOWN, 300.0}
+
+/**
+ * The figure format of `path` by its extension (.svg, .pdf, .png, any
+ * case). Anything else gives BC_EUSAGE with a message naming the choices.
+ */
+int bc_plot_format_from_path(bc_plot_format *out, const char *path, bc_err *err);
+
+/**
+ * Draws the deep share through time (points, line broken at empty bins,
+ * interval bars, the resampling band when present), the counts per bin,
+ * and a timescale bar in the chart's own colours, and writes it to `path`
+ * as SVG, PDF or PNG (by extension). `bins` may come in any order; `chart`
+ * may be NULL (no timescale bar). `opt` NULL means BC_PLOT_OPTIONS_INIT.
+ * Needs the "DejaVu Sans" font (Debian fonts-dejavu-core) for the intended
+ * look; fontconfig substitutes another sans font when it is missing.
+ * Returns 0, BC_EUSAGE (extension, options), BC_EINVALID (a bin's numbers),
+ * BC_EIO (cannot write `path`) or BC_ENOMEM. Nothing is kept from the arguments.
+ */
+int bc_plot_shift(const char *path, const bc_plot_bin *bins, size_t n, const bc_chart *chart,
+		  const bc_plot_options *opt, bc_err *err);
+
+/**
+ * Frees the font caches cairo and fontconfig keep for the whole process,
+ * so leak checkers stay quiet. Call at most at exit, after the last figure,
+ * from a program that uses fontconfig for nothing else. Safe to call twice.
+ */
+void bc_plot_cleanup(void);
 
 /* == end of plot section == */
 

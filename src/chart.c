@@ -163,3 +163,31 @@ int bc_chart_find(const bc_chart *c, const char *name)
 			return (int)i;
 	return -1;
 }
+
+int bc_chart_copy_colours(bc_chart *dst, const bc_chart *src, const char *colour_source, bc_err *err)
+{
+	int copied = 0;
+	for (size_t i = 0; i < dst->n; i++) {
+		bc_interval *d = &dst->iv[i];
+		if (d->has_colour)
+			continue;
+		const bc_interval *s = NULL;
+		for (size_t j = 0; j < src->n && !s && d->iri[0]; j++)
+			if (src->iv[j].has_colour && strcmp(src->iv[j].iri, d->iri) == 0)
+				s = &src->iv[j];
+		int k = s ? -1 : bc_chart_find(src, d->name);
+		if (k >= 0 && src->iv[k].has_colour)
+			s = &src->iv[k];
+		if (!s)
+			continue;
+		char *cs = bc__strdup(colour_source ? colour_source : "");
+		if (!cs)
+			return bc_err_set(err, BC_ENOMEM, "out of memory");
+		free((char *)d->colour_source);
+		d->colour_source = cs;
+		d->colour = s->colour;
+		d->has_colour = 1;
+		copied++;
+	}
+	return copied;
+}

@@ -204,7 +204,7 @@ int bc_db_create(bc_db **out, const char *path, bc_err *err)
 	}
 	close(fd);
 	bc_db *db = NULL;
-	int rc = connect(&db, path, SQLITE_OPEN_READWRITE, err);
+	int rc = connect(&db, path, SQLITE_OPEN_READWRITE | SQLITE_OPEN_NOMUTEX, err);
 	if (rc == BC_OK)
 		rc = bc_db__exec(db, "PRAGMA foreign_keys = ON", err);
 	if (rc == BC_OK) {
@@ -273,7 +273,7 @@ int bc_db_open(bc_db **out, const char *path, bc_err *err)
 	if (!S_ISREG(sb.st_mode))
 		return bc_err_set(err, BC_EFOREIGN, "%s: not a regular file", path);
 	bc_db *db = NULL;
-	int rc = connect(&db, path, SQLITE_OPEN_READWRITE, err);
+	int rc = connect(&db, path, SQLITE_OPEN_READWRITE | SQLITE_OPEN_NOMUTEX, err);
 	int version = 0;
 	if (rc == BC_OK)
 		rc = read_version(db, &version, err);

@@ -1,12 +1,147 @@
 /*
- * cmd_shift.c - placeholder until the shift command lands; replaced whole.
+ * cmd_shift.c - bathychron shift DB [options]: the occurrence-shift table.
+ * Thin: options go to bc_shift_option_set, the work to bc_shift_compute.
  */
 #include "cli.h"
 
+#include <errno.h>
+#include <string.h>
+
+static const char help[] =
+	"usage: bathychron shift DB [selection] [binning] [zoning] [--format F] [-o FILE] [--methods]\n"
+	"\n"
+	"Per stratigraphic bin, oldest first: how many selected occurrences were\n"
+	"shallow, deep or straddling the depth boundary, the deep share with a\n"
+	"Wilson interval, the change from the previous bin (Newcombe interval,\n"
+	"Fisher exact p), references, localities and articulation classes; below\n"
+	"the table, trend tests across bins and a methods stamp.\n"
+	"\n"
+	"Selection (combined with AND):\n"
+	"  --group G            taxon group (taxonGroup), case-insensitive\n"
+	"  --taxon NAME         scientific name, genus, family or order, case-insensitive;\n"
+	"                       a genus also matches 'Genus species' names\n"
+	"  --preservation C     articulation class (articulated, partly articulated,\n"
+	"                       disarticulated, unknown) or a preservation term (calyx, ...)\n"
+	"  --region W,S,E,N     locality box in decimal degrees (W > E crosses 180);\n"
+	"                       occurrences without coordinates are left out and counted\n"
+	"Binning:\n"
+	"  --timescale NAME     stored chart (default: the database's default chart)\n"
+	"  --bins B             stage | epoch | period (chart ranks), a width in Myr\n"
+	"                       (edges at multiples of the width from 0 Ma), or a TSV/CSV\n"
+	"                       file of name, older bound, younger bound (Ma). Default stage.\n"
+	"  --span R             age ranges crossing bin edges: majority (default: the bin\n"
+	"                       holding most of the range), all (every bin it overlaps),\n"
+	"                       split (fractional counts by overlap), max:MYR (leave out\n"
+	"                       ranges longer than MYR, majority for the rest)\n"
+	"Zoning (a range [min,max] is shallow when max <= S and min < S, deep when\n"
+	"min >= S, otherwise straddling; a single depth d is [d,d]):\n"
+	"  --split METRES       one boundary (default 200, the conventional shelf edge)\n"
+	"  --zones A,B,...      several boundaries; adds n_zone1.. columns; the fixed\n"
+	"                       columns use the first boundary\n"
+	"Output:\n"
+	"  --level L            confidence level of every interval (default 0.95)\n"
+	"  --format F           csv (default), tsv, md, latex, json\n"
+	"  -o FILE              write to FILE instead of standard output\n"
+	"  --methods            print a methods paragraph with references instead of the table\n"
+	"\n"
+	"csv/tsv end with '#' comment lines (tests and stamp): read them with\n"
+	"read.csv(f, comment.char = \"#\") in R or pandas.read_csv(f, comment=\"#\").\n"
+	"Palaeodepths are interpretations, often from environment terms; bins with few\n"
+	"occurrences are weak evidence; a shift can be an artefact of sampling, age\n"
+	"uncertainty or transport.\n"
+	"Exit status: 0 table written, 1 nothing to count, 2 usage, 3 environment.\n";
+
+/* Options that take a value and go straight to the library. */
+static const char *const lib_opts[] = {
+	"group", "taxon", "preservation", "region", "timescale", "bins", "span", "split", "zones", "level",
+};
+
 int cmd_shift(int argc, char **argv)
 {
-	(void)argc;
-	(void)argv;
-	cli_error("shift: not available in this build yet");
-	return CLI_ENV;
+	bc_shift_options opts = BC_SHIFT_OPTIONS_INIT;
+	bc_format format = BC_FORMAT_CSV;
+	const char *db_path = NULL, *out_path = NULL;
+	int methods = 0, have_split = 0, have_zones = 0;
+	bc_err err = {0};
+	for (int i = 1; i < argc; i++) {
+		const char *a = argv[i];
+		if (strcmp(a, "--help") == 0 || strcmp(a, "-h") == 0) {
+			fputs(help, stdout);
+			return CLI_OK;
+		}
+		if (strcmp(a, "--methods") == 0) {
+			methods = 1;
+			continue;
+		}
+		if (a[0] != '-') {
+			if (db_path)
+				return cli_usage("shift", "more than one database given ('%s' and '%s')", db_path, a);
+			db_path = a;
+			continue;
+		}
+		const char *name = a[1] == '-' ? a + 2 : a + 1;
+		const char *value = NULL;
+		char namebuf[64];
+		const char *eq = strchr(name, '=');
+		if (eq && (size_t)(eq - name) < sizeof namebuf) {
+			memcpy(namebuf, name, (size_t)(eq - name));
+			namebuf[eq - name] = '\0';
+			name = namebuf;
+			value = eq + 1;
+		}
+		int known = strcmp(name, "format") == 0 || strcmp(name, "o") == 0 || strcmp(name, "output") == 0 ||
+			    strcmp(name, "draws") == 0 || strcmp(name, "seed") == 0;
+		for (size_t k = 0; k < sizeof lib_opts / sizeof lib_opts[0]; k++)
+			known |= strcmp(name, lib_opts[k]) == 0;
+		if (!known)
+			return cli_usage("shift", "unknown option '%s'", a);
+		if (!value) {
+			if (i + 1 >= argc)
+				return cli_usage("shift", "option '%s' needs a value", a);
+			value = argv[++i];
+		}
+		if (strcmp(name, "format") == 0) {
+			if (bc_format_parse(&format, value) != BC_OK)
+				return cli_usage("shift", "--format: '%s' is not csv, tsv, md, latex or json", value);
+		} else if (strcmp(name, "o") == 0 || strcmp(name, "output") == 0) {
+			out_path = value;
+		} else if (strcmp(name, "draws") == 0 || strcmp(name, "seed") == 0) {
+			return cli_usage("shift", "--%s: resampling draws are not available in this build yet", name);
+		} else {
+			have_split |= strcmp(name, "split") == 0;
+			have_zones |= strcmp(name, "zones") == 0;
+			if (bc_shift_option_set(&opts, name, value, &err) != BC_OK)
+				return cli_usage("shift", "%s", err.msg);
+		}
+	}
+	if (!db_path)
+		return cli_usage("shift", "expected a database file");
+	if (have_split && have_zones)
+		return cli_usage("shift", "--split and --zones exclude each other (--zones A,B uses A as the split)");
+	bc_db *db = NULL;
+	bc_shift *s = NULL;
+	int status = CLI_OK;
+	if (bc_db_open(&db, db_path, &err) != BC_OK)
+		return cli_fail(&err);
+	if (bc_shift_compute(&s, db, &opts, &err) != BC_OK) {
+		status = cli_fail(&err);
+		goto done;
+	}
+	FILE *f = stdout;
+	if (out_path && !(f = fopen(out_path, "w"))) {
+		cli_error("%s: cannot write: %s", out_path, strerror(errno));
+		status = CLI_ENV;
+		goto done;
+	}
+	int rc = methods ? bc_shift_write_methods(s, f, &err) : bc_shift_write(s, f, format, &err);
+	if (rc != BC_OK)
+		status = cli_fail(&err);
+	if (f != stdout && fclose(f) != 0 && status == CLI_OK) {
+		cli_error("%s: writing failed: %s", out_path, strerror(errno));
+		status = CLI_ENV;
+	}
+done:
+	bc_shift_free(s);
+	bc_db_close(db);
+	return status;
 }

@@ -1,0 +1,1601 @@
+/*
+ * shift.c - the occurrence-shift table: select occurrences, bin them by
+ * age (chart rank, width or file; a span rule for long age ranges), zone
+ * them by palaeodepth (design.md's straddle rule), count, and test.
+ * Every rule is stated in doc/shift.md and in the output's methods stamp.
+ */
+#include "shift.h"
+
+#include "db.h"
+#include "output.h"
+#include "stats.h"
+
+#include <errno.h>
+#include <math.h>
+#include <nettle/sha2.h>
+#include <stdlib.h>
+#include <string.h>
+#include <strings.h>
+
+#define CAUTION "Palaeodepths are interpretations, often from environment terms; bins with few occurrences are weak evidence; a shift can be an artefact of sampling, age uncertainty or transport."
+#define SPLIT_NOTE "200 m is the conventional shelf edge (common practice, no source)"
+
+/* One SELECT reads only the columns the counting uses. */
+static const char SQL_SELECT[] =
+	"SELECT o.occurrence_pk, o.older_ma, o.younger_ma, o.min_depth_m, o.max_depth_m,"
+	" o.reference_key, o.locality_id, o.articulation, NULL, NULL"
+	" FROM occurrences o"
+	" WHERE (:grp IS NULL OR o.taxon_group = :grp COLLATE NOCASE)"
+	" AND (:taxon IS NULL OR o.scientific_name = :taxon COLLATE NOCASE OR o.genus = :taxon COLLATE NOCASE"
+	"  OR o.family = :taxon COLLATE NOCASE OR o.\"order\" = :taxon COLLATE NOCASE"
+	"  OR o.scientific_name LIKE :taxon_prefix ESCAPE '\\')"
+	" AND (:artic IS NULL OR o.articulation = :artic COLLATE NOCASE)"
+	" AND (:pres IS NULL OR o.preservation = :pres COLLATE NOCASE)"
+	" ORDER BY o.occurrence_pk";
+static const char SQL_SELECT_REGION[] =
+	"SELECT o.occurrence_pk, o.older_ma, o.younger_ma, o.min_depth_m, o.max_depth_m,"
+	" o.reference_key, o.locality_id, o.articulation, l.longitude, l.latitude"
+	" FROM occurrences o LEFT JOIN localities l ON l.fid = o.locality_id"
+	" WHERE (:grp IS NULL OR o.taxon_group = :grp COLLATE NOCASE)"
+	" AND (:taxon IS NULL OR o.scientific_name = :taxon COLLATE NOCASE OR o.genus = :taxon COLLATE NOCASE"
+	"  OR o.family = :taxon COLLATE NOCASE OR o.\"order\" = :taxon COLLATE NOCASE"
+	"  OR o.scientific_name LIKE :taxon_prefix ESCAPE '\\')"
+	" AND (:artic IS NULL OR o.articulation = :artic COLLATE NOCASE)"
+	" AND (:pres IS NULL OR o.preservation = :pres COLLATE NOCASE)"
+	" ORDER BY o.occurrence_pk";
+static const char SQL_VOCABS[] =
+	"SELECT kind, name, sha256 FROM vocabularies ORDER BY kind, vocabulary_id";
+
+struct bc_shift {
+	bc_shift_options opts;      /* string fields point at the owned copies below */
+	char *group, *taxon, *preservation, *timescale, *bins_file;
+	char *db_path;
+	char *chart_name, *chart_source;
+	char *bins_file_sha;
+	char *vocabs;               /* "kind name sha256:...; ..." */
+	bc_shift__occ *occ;         /* the assignment, kept for redraws */
+	size_t nocc;
+	char **refkeys;
+	size_t nref;
+	size_t nloc;
+	bc_shift__bin *bins;        /* the reported span of bins, oldest first */
+	size_t nbins;
+	bc_shift_bin *out;
+	double *zone_counts;        /* nbins x (n_zones + 1) */
+	bc_shift_tests tests;
+	bc_shift_summary sum;
+};
+
+static int oom(bc_err *err) { return bc_err_set(err, BC_ENOMEM, "out of memory"); }
+
+/* ------------------------------------------------------------------ */
+/* Options                                                              */
+/* ------------------------------------------------------------------ */
+
+static const char *const art_classes[] = {"articulated", "partly articulated", "disarticulated", "unknown"};
+
+/* The articulation class a text names, or -1. Accepts "partly-articulated" and "partly_articulated". */
+static int art_class(const char *s)
+{
+	if (!s)
+		return -1;
+	for (int i = 0; i < 4; i++)
+		if (strcasecmp(s, art_classes[i]) == 0)
+			return i;
+	if (strcasecmp(s, "partly-articulated") == 0 || strcasecmp(s, "partly_articulated") == 0)
+		return BC_SHIFT__ART_PARTLY;
+	return -1;
+}
+
+static int parse_list(const char *value, double *out, size_t max, size_t *n)
+{
+	const char *p = value;
+	*n = 0;
+	for (;;) {
+		char *end;
+		errno = 0;
+		double v = strtod(p, &end);
+		if (end == p || errno || !isfinite(v) || *n == max)
+			return -1;
+		out[(*n)++] = v;
+		while (*end == ' ')
+			end++;
+		if (*end == '\0')
+			return 0;
+		if (*end != ',')
+			return -1;
+		p = end + 1;
+	}
+}
+
+static int parse_positive(const char *s, double *out)
+{
+	char *end;
+	errno = 0;
+	double v = strtod(s, &end);
+	if (end == s || *end || errno || !isfinite(v) || v <= 0)
+		return -1;
+	*out = v;
+	return 0;
+}
+
+int bc_shift_option_set(bc_shift_options *o, const char *name, const char *value, bc_err *err)
+{
+	if (!name || !value)
+		return bc_err_set(err, BC_EUSAGE, "shift: option without a value");
+	if (strcmp(name, "group") == 0 || strcmp(name, "taxon") == 0 || strcmp(name, "preservation") == 0 ||
+	    strcmp(name, "timescale") == 0) {
+		if (!*value)
+			return bc_err_set(err, BC_EUSAGE, "--%s: empty value", name);
+		if (name[0] == 'g')
+			o->group = value;
+		else if (name[0] == 't' && name[1] == 'a')
+			o->taxon = value;
+		else if (name[0] == 'p')
+			o->preservation = value;
+		else
+			o->timescale = value;
+		return BC_OK;
+	}
+	if (strcmp(name, "region") == 0) {
+		double r[4];
+		size_t n;
+		if (parse_list(value, r, 4, &n) || n != 4)
+			return bc_err_set(err, BC_EUSAGE, "--region: '%s' is not WEST,SOUTH,EAST,NORTH in decimal degrees", value);
+		if (r[0] < -180 || r[0] > 180 || r[2] < -180 || r[2] > 180 || r[1] < -90 || r[3] > 90 || r[1] > r[3])
+			return bc_err_set(err, BC_EUSAGE, "--region: '%s': longitudes must lie in -180..180, latitudes in -90..90, south <= north", value);
+		memcpy(o->region, r, sizeof r);
+		o->has_region = 1;
+		return BC_OK;
+	}
+	if (strcmp(name, "bins") == 0) {
+		static const struct { const char *s; bc_bin_scheme b; } kw[] = {
+			{"stage", BC_BINS_STAGE}, {"age", BC_BINS_STAGE}, {"epoch", BC_BINS_EPOCH},
+			{"series", BC_BINS_EPOCH}, {"period", BC_BINS_PERIOD}, {"system", BC_BINS_PERIOD},
+		};
+		for (size_t i = 0; i < sizeof kw / sizeof kw[0]; i++)
+			if (strcasecmp(value, kw[i].s) == 0) {
+				o->bins = kw[i].b;
+				return BC_OK;
+			}
+		double w;
+		char *end;
+		errno = 0;
+		w = strtod(value, &end);
+		if (end != value && *end == '\0') {
+			if (errno || !isfinite(w) || w <= 0)
+				return bc_err_set(err, BC_EUSAGE, "--bins: width '%s' must be a positive number of Myr", value);
+			o->bins = BC_BINS_WIDTH;
+			o->bin_width = w;
+			return BC_OK;
+		}
+		if (!*value)
+			return bc_err_set(err, BC_EUSAGE, "--bins: empty value");
+		o->bins = BC_BINS_FILE;
+		o->bins_file = value;
+		return BC_OK;
+	}
+	if (strcmp(name, "span") == 0) {
+		if (strcmp(value, "majority") == 0)
+			o->span = BC_SPAN_MAJORITY;
+		else if (strcmp(value, "all") == 0)
+			o->span = BC_SPAN_ALL;
+		else if (strcmp(value, "split") == 0)
+			o->span = BC_SPAN_SPLIT;
+		else if (strncmp(value, "max:", 4) == 0) {
+			if (parse_positive(value + 4, &o->span_max_myr))
+				return bc_err_set(err, BC_EUSAGE, "--span: '%s': max: needs a positive number of Myr, e.g. max:10", value);
+			o->span = BC_SPAN_MAX;
+		} else
+			return bc_err_set(err, BC_EUSAGE, "--span: '%s' is not majority, all, split or max:MYR", value);
+		return BC_OK;
+	}
+	if (strcmp(name, "split") == 0) {
+		double s;
+		if (parse_positive(value, &s))
+			return bc_err_set(err, BC_EUSAGE, "--split: '%s' is not a positive depth in metres", value);
+		o->zones[0] = s;
+		o->n_zones = 1;
+		o->zones_given = 0;
+		return BC_OK;
+	}
+	if (strcmp(name, "zones") == 0) {
+		double z[BC_SHIFT_MAX_ZONES];
+		size_t n;
+		if (parse_list(value, z, BC_SHIFT_MAX_ZONES, &n))
+			return bc_err_set(err, BC_EUSAGE, "--zones: '%s' is not a list of at most %d depths in metres, e.g. 200,1000", value, BC_SHIFT_MAX_ZONES);
+		for (size_t i = 0; i < n; i++)
+			if (z[i] <= 0 || (i && z[i] <= z[i - 1]))
+				return bc_err_set(err, BC_EUSAGE, "--zones: '%s': depths must be positive and strictly increasing", value);
+		memcpy(o->zones, z, n * sizeof z[0]);
+		o->n_zones = n;
+		o->zones_given = 1;
+		return BC_OK;
+	}
+	if (strcmp(name, "level") == 0) {
+		double l;
+		if (parse_positive(value, &l) || l >= 1)
+			return bc_err_set(err, BC_EUSAGE, "--level: '%s' is not a confidence level between 0 and 1, e.g. 0.95", value);
+		o->level = l;
+		return BC_OK;
+	}
+	return bc_err_set(err, BC_EUSAGE, "shift: unknown option --%s", name);
+}
+
+/* ------------------------------------------------------------------ */
+/* Zoning and counting                                                  */
+/* ------------------------------------------------------------------ */
+
+size_t bc_shift__stride(size_t n_zones) { return BC_SHIFT__C_ZONE + n_zones + 1; }
+
+int bc_shift__zone(double dmin, double dmax, const double *b, size_t nb)
+{
+	size_t k = 0;
+	while (k < nb && dmin >= b[k])
+		k++;
+	if (k == nb)
+		return (int)nb;
+	return dmax <= b[k] ? (int)k : -1; /* dmin < b[k] holds here */
+}
+
+/* Index of the first bin (oldest first) whose younger bound lies below `t`. */
+static size_t first_below(const bc_shift__bin *bins, size_t nbins, double t)
+{
+	size_t lo = 0, hi = nbins;
+	while (lo < hi) {
+		size_t mid = lo + (hi - lo) / 2;
+		if (bins[mid].younger < t)
+			hi = mid;
+		else
+			lo = mid + 1;
+	}
+	return lo;
+}
+
+static void bit_set(uint64_t *bits, size_t i) { bits[i >> 6] |= (uint64_t)1 << (i & 63); }
+static int bit_get(const uint64_t *bits, size_t i) { return (int)((bits[i >> 6] >> (i & 63)) & 1); }
+
+static void add_to_bin(double *c, const bc_shift__occ *o, double w, size_t n_zones)
+{
+	c[o->zone2] += w;
+	c[BC_SHIFT__C_ART + o->artic] += w;
+	if (n_zones) {
+		if (o->zonek == BC_SHIFT__ZSTRADDLE)
+			c[BC_SHIFT__C_ZSTRADDLE] += w;
+		else
+			c[BC_SHIFT__C_ZONE + o->zonek] += w;
+	}
+}
+
+int bc_shift__count(double *counts, size_t *n_refs, size_t *n_locs, bc_shift__tally *tally,
+		    const bc_shift__occ *occ, size_t n, const bc_shift__bin *bins, size_t nbins,
+		    int rule, double max_myr, size_t n_zones, size_t ref_keys, size_t loc_keys, bc_err *err)
+{
+	size_t stride = bc_shift__stride(n_zones);
+	uint64_t *rbits = NULL, *lbits = NULL;
+	memset(counts, 0, nbins * stride * sizeof *counts);
+	memset(tally, 0, sizeof *tally);
+	if (n_refs) {
+		rbits = bc__calloc((ref_keys * nbins + 63) / 64 + 1, sizeof *rbits);
+		if (!rbits)
+			return oom(err);
+	}
+	if (n_locs) {
+		lbits = bc__calloc((loc_keys * nbins + 63) / 64 + 1, sizeof *lbits);
+		if (!lbits) {
+			free(rbits);
+			return oom(err);
+		}
+	}
+	for (size_t i = 0; i < n; i++) {
+		const bc_shift__occ *o = &occ[i];
+		double top = o->older, bot = o->younger;
+		if (rule == BC_SPAN_MAX && top - bot > max_myr) {
+			tally->n_too_long++;
+			continue;
+		}
+		size_t j = first_below(bins, nbins, top);
+		size_t k0 = nbins, k1 = nbins, best = nbins;
+		double total = 0, bestov = -1;
+		if (top == bot) {
+			/* A point age: the bin whose older bound is inclusive; at
+			 * the very youngest edge, the bin ending there. */
+			if (j < nbins && bins[j].older >= top)
+				best = j;
+			else if (j > 0 && bins[j - 1].younger == top)
+				best = j - 1;
+			if (best < nbins) {
+				k0 = best;
+				k1 = best + 1;
+				total = bestov = 1;
+			}
+		} else {
+			k0 = j;
+			for (size_t k = j; k < nbins && bins[k].older > bot; k++) {
+				double ov = fmin(top, bins[k].older) - fmax(bot, bins[k].younger);
+				if (ov <= 0)
+					continue;
+				total += ov;
+				/* ties (within 1e-9 Myr, rounding of the bounds) keep the older bin */
+				if (ov > bestov + 1e-9) {
+					bestov = ov;
+					best = k;
+				}
+				k1 = k + 1;
+			}
+		}
+		if (best == nbins) {
+			tally->n_outside++;
+			continue;
+		}
+		tally->n_used++;
+		int multi = 0;
+		for (size_t k = k0; k < k1; k++) {
+			double ov = top == bot ? 1 : fmin(top, bins[k].older) - fmax(bot, bins[k].younger);
+			if (ov <= 0)
+				continue;
+			if (k != best)
+				multi = 1;
+			double w;
+			if (rule == BC_SPAN_ALL)
+				w = 1;
+			else if (rule == BC_SPAN_SPLIT)
+				w = ov / total;
+			else if (k == best)
+				w = 1;
+			else
+				continue;
+			add_to_bin(&counts[k * stride], o, w, n_zones);
+			if (rbits && o->ref >= 0)
+				bit_set(rbits, (size_t)o->ref * nbins + k);
+			if (lbits && o->loc >= 0)
+				bit_set(lbits, (size_t)o->loc * nbins + k);
+		}
+		if (multi)
+			tally->n_multi++;
+	}
+	for (size_t k = 0; k < nbins; k++) {
+		if (n_refs) {
+			n_refs[k] = 0;
+			for (size_t r = 0; r < ref_keys; r++)
+				n_refs[k] += (size_t)bit_get(rbits, r * nbins + k);
+		}
+		if (n_locs) {
+			n_locs[k] = 0;
+			for (size_t l = 0; l < loc_keys; l++)
+				n_locs[k] += (size_t)bit_get(lbits, l * nbins + k);
+		}
+	}
+	free(rbits);
+	free(lbits);
+	return BC_OK;
+}
+
+/* ------------------------------------------------------------------ */
+/* Bins                                                                 */
+/* ------------------------------------------------------------------ */
+
+void bc_shift__bins_free(bc_shift__bin *bins, size_t n)
+{
+	if (!bins)
+		return;
+	for (size_t i = 0; i < n; i++)
+		free(bins[i].name);
+	free(bins);
+}
+
+static int bin_cmp(const void *a, const void *b)
+{
+	const bc_shift__bin *x = a, *y = b;
+	if (x->older != y->older)
+		return x->older > y->older ? -1 : 1;
+	return x->younger > y->younger ? -1 : x->younger < y->younger;
+}
+
+/* Sorts oldest first and refuses overlapping bins. */
+static int bins_check(bc_shift__bin *bins, size_t n, const char *what, bc_err *err)
+{
+	qsort(bins, n, sizeof *bins, bin_cmp);
+	for (size_t i = 1; i < n; i++)
+		if (bins[i].older > bins[i - 1].younger)
+			return bc_err_set(err, BC_EINVALID, "%s: bins %s (%g-%g Ma) and %s (%g-%g Ma) overlap",
+				what, bins[i - 1].name, bins[i - 1].older, bins[i - 1].younger,
+				bins[i].name, bins[i].older, bins[i].younger);
+	return BC_OK;
+}
+
+/* Splits one line of a bins file into at most 4 fields (quotes removed). */
+static size_t split_fields(char *line, char sep, char **f, size_t max)
+{
+	size_t n = 0;
+	char *p = line;
+	while (n < max) {
+		while (*p == ' ')
+			p++;
+		if (*p == '"') {
+			char *w = ++p, *start = p;
+			while (*p && !(*p == '"' && p[1] != '"')) {
+				if (*p == '"')
+					p++;
+				*w++ = *p++;
+			}
+			if (*p == '"')
+				p++;
+			*w = '\0';
+			f[n++] = start;
+			while (*p && *p != sep)
+				p++;
+		} else {
+			f[n++] = p;
+			while (*p && *p != sep)
+				p++;
+		}
+		if (*p != sep)
+			break;
+		*p++ = '\0';
+	}
+	for (size_t i = 0; i < n; i++) {
+		size_t len = strlen(f[i]);
+		while (len && (f[i][len - 1] == ' ' || f[i][len - 1] == '\r'))
+			f[i][--len] = '\0';
+	}
+	return n;
+}
+
+int bc_shift__bins_read(bc_shift__bin **out, size_t *nout, const char *path, bc_err *err)
+{
+	char *text = NULL;
+	size_t len = 0, n = 0, cap = 0;
+	bc_shift__bin *bins = NULL;
+	*out = NULL;
+	*nout = 0;
+	int rc = bc__read_file(path, &text, &len, err);
+	if (rc)
+		return rc;
+	char sep = strchr(text, '\t') ? '\t' : ',';
+	char *line = text;
+	static const char *const names[] = {"name", "older bound", "younger bound"};
+	for (long lineno = 1; rc == BC_OK && line && *line; lineno++) {
+		char *nl = strchr(line, '\n');
+		if (nl)
+			*nl = '\0';
+		char *f[4];
+		size_t nf = 0;
+		if (line[0] != '#' && line[strspn(line, " \t\r")] != '\0')
+			nf = split_fields(line, sep, f, 4);
+		if (nf) {
+			double v[2];
+			int bad = -1;
+			if (nf < 3)
+				rc = bc_err_set(err, BC_EINVALID, "%s:%ld: %s: missing (expected name, older bound, younger bound)", path, lineno, names[nf]);
+			for (int k = 0; rc == BC_OK && k < 2; k++) {
+				char *end;
+				errno = 0;
+				v[k] = strtod(f[k + 1], &end);
+				if (end == f[k + 1] || *end || errno || !isfinite(v[k]))
+					bad = k;
+			}
+			if (rc == BC_OK && bad >= 0) {
+				if (lineno == 1 || n == 0) {
+					/* a header row */
+				} else {
+					rc = bc_err_set(err, BC_EINVALID, "%s:%ld: %s: '%s' is not a number of Ma", path, lineno, names[bad + 1], f[bad + 1]);
+				}
+			} else if (rc == BC_OK) {
+				if (!*f[0])
+					rc = bc_err_set(err, BC_EINVALID, "%s:%ld: name: empty", path, lineno);
+				else if (!(v[0] > v[1]) || v[1] < 0)
+					rc = bc_err_set(err, BC_EINVALID, "%s:%ld: older bound: %g Ma must be older (larger) than the younger bound %g Ma, both >= 0", path, lineno, v[0], v[1]);
+				else if (n == cap) {
+					size_t nc = cap ? 2 * cap : 32;
+					bc_shift__bin *p = bc__realloc(bins, nc * sizeof *p);
+					if (!p)
+						rc = oom(err);
+					else {
+						bins = p;
+						cap = nc;
+					}
+				}
+				if (rc == BC_OK) {
+					bins[n].name = bc__strdup(f[0]);
+					bins[n].older = v[0];
+					bins[n].younger = v[1];
+					if (!bins[n].name)
+						rc = oom(err);
+					else
+						n++;
+				}
+			}
+		}
+		line = nl ? nl + 1 : NULL;
+	}
+	free(text);
+	if (rc == BC_OK && n == 0)
+		rc = bc_err_set(err, BC_EINVALID, "%s: no bins (expected lines of name, older bound, younger bound)", path);
+	if (rc == BC_OK)
+		rc = bins_check(bins, n, path, err);
+	if (rc) {
+		bc_shift__bins_free(bins, n);
+		return rc;
+	}
+	*out = bins;
+	*nout = n;
+	return BC_OK;
+}
+
+static int bins_from_chart(bc_shift *s, bc_db *db, bc_shift__bin **out, size_t *nout, bc_err *err)
+{
+	bc_chart *owned = NULL;
+	const bc_chart *chart = s->opts.chart;
+	int rc = BC_OK;
+	*out = NULL;
+	*nout = 0;
+	if (!chart) {
+		rc = bc_timescale_get(&owned, db, s->opts.timescale, err);
+		if (rc)
+			return rc;
+		chart = owned;
+	}
+	if (!(s->chart_name = bc__strdup(bc_chart_name(chart))) || !(s->chart_source = bc__strdup(bc_chart_source(chart)))) {
+		bc_chart_free(owned);
+		return oom(err);
+	}
+	bc_rank want = s->opts.bins == BC_BINS_EPOCH ? BC_RANK_EPOCH : s->opts.bins == BC_BINS_PERIOD ? BC_RANK_PERIOD : BC_RANK_AGE;
+	size_t nc = bc_chart_count(chart), n = 0;
+	bc_shift__bin *bins = bc__calloc(nc ? nc : 1, sizeof *bins);
+	if (!bins)
+		rc = oom(err);
+	for (size_t i = 0; rc == BC_OK && i < nc; i++) {
+		const bc_interval *iv = bc_chart_interval(chart, i);
+		if (iv->rank != want || !(iv->older_ma > iv->younger_ma))
+			continue;
+		bins[n].name = bc__strdup(iv->name);
+		bins[n].older = iv->older_ma;
+		bins[n].younger = iv->younger_ma;
+		if (!bins[n].name)
+			rc = oom(err);
+		else
+			n++;
+	}
+	if (rc == BC_OK && n == 0)
+		rc = bc_err_set(err, BC_EINVALID, "chart %s has no intervals of rank %s", bc_chart_name(chart), bc_rank_name(want));
+	if (rc == BC_OK) {
+		char what[256];
+		snprintf(what, sizeof what, "chart %s", bc_chart_name(chart));
+		rc = bins_check(bins, n, what, err);
+	}
+	bc_chart_free(owned);
+	if (rc) {
+		bc_shift__bins_free(bins, n);
+		return rc;
+	}
+	*out = bins;
+	*nout = n;
+	return BC_OK;
+}
+
+/* Equal-width bins with edges at multiples of the width from 0 Ma,
+ * covering the age ranges of the occurrences. */
+static int bins_width(const bc_shift *s, bc_shift__bin **out, size_t *nout, bc_err *err)
+{
+	double w = s->opts.bin_width, lo = INFINITY, hi = -INFINITY;
+	*out = NULL;
+	*nout = 0;
+	for (size_t i = 0; i < s->nocc; i++) {
+		lo = fmin(lo, s->occ[i].younger);
+		hi = fmax(hi, s->occ[i].older);
+	}
+	double k0 = floor(lo / w), k1 = ceil(hi / w);
+	if (k1 <= k0)
+		k1 = k0 + 1;
+	if (k1 - k0 > 100000)
+		return bc_err_set(err, BC_EUSAGE, "--bins %g: the ages %g-%g Ma would make %.0f bins; choose a wider bin", w, hi, lo, k1 - k0);
+	size_t n = (size_t)(k1 - k0);
+	bc_shift__bin *bins = bc__calloc(n, sizeof *bins);
+	if (!bins)
+		return oom(err);
+	for (size_t i = 0; i < n; i++) {
+		double k = k1 - (double)i;
+		bins[i].older = k * w;
+		bins[i].younger = (k - 1) * w;
+		char name[64];
+		snprintf(name, sizeof name, "%g-%g Ma", bins[i].older, bins[i].younger);
+		if (!(bins[i].name = bc__strdup(name))) {
+			bc_shift__bins_free(bins, n);
+			return oom(err);
+		}
+	}
+	*out = bins;
+	*nout = n;
+	return BC_OK;
+}
+
+/* ------------------------------------------------------------------ */
+/* Loading                                                              */
+/* ------------------------------------------------------------------ */
+
+/* Interning of reference keys: open addressing on FNV-1a. */
+typedef struct strmap {
+	int32_t *slot;  /* index into keys, -1 empty */
+	size_t cap;
+} strmap;
+
+static uint64_t fnv(const char *s)
+{
+	uint64_t h = 1469598103934665603ULL;
+	for (; *s; s++)
+		h = (h ^ (unsigned char)*s) * 1099511628211ULL;
+	return h;
+}
+
+static int intern(bc_shift *s, strmap *m, const char *key, int32_t *out)
+{
+	if ((s->nref + 1) * 2 > m->cap) {
+		size_t nc = m->cap ? 2 * m->cap : 1024;
+		int32_t *ns = bc__malloc(nc * sizeof *ns);
+		char **nk = bc__realloc(s->refkeys, (nc / 2) * sizeof *nk);
+		if (!ns || !nk) {
+			free(ns);
+			if (nk)
+				s->refkeys = nk;
+			return BC_ENOMEM;
+		}
+		s->refkeys = nk;
+		for (size_t i = 0; i < nc; i++)
+			ns[i] = -1;
+		for (size_t i = 0; i < s->nref; i++) {
+			size_t h = (size_t)fnv(s->refkeys[i]) & (nc - 1);
+			while (ns[h] >= 0)
+				h = (h + 1) & (nc - 1);
+			ns[h] = (int32_t)i;
+		}
+		free(m->slot);
+		m->slot = ns;
+		m->cap = nc;
+	}
+	size_t h = (size_t)fnv(key) & (m->cap - 1);
+	while (m->slot[h] >= 0) {
+		if (strcmp(s->refkeys[m->slot[h]], key) == 0) {
+			*out = m->slot[h];
+			return BC_OK;
+		}
+		h = (h + 1) & (m->cap - 1);
+	}
+	char *k = bc__strdup(key);
+	if (!k)
+		return BC_ENOMEM;
+	s->refkeys[s->nref] = k;
+	m->slot[h] = (int32_t)s->nref;
+	*out = (int32_t)s->nref++;
+	return BC_OK;
+}
+
+static int in_region(const double r[4], double lon, double lat)
+{
+	if (lat < r[1] || lat > r[3])
+		return 0;
+	if (r[0] <= r[2])
+		return lon >= r[0] && lon <= r[2];
+	return lon >= r[0] || lon <= r[2]; /* the box crosses the antimeridian */
+}
+
+/* The data hash covers every selected row (after --region) in
+ * occurrence_pk order, as little-endian binary: pk int64, older, younger,
+ * min depth, max depth as float64 (NULL = the quiet NaN 0x7ff8...0),
+ * locality id int64 (-1 = none), then articulation and reference key as
+ * uint32 length + UTF-8 bytes. doc/shift.md repeats this layout. */
+static void put_le64(struct sha256_ctx *h, uint64_t v)
+{
+	uint8_t b[8];
+	for (int i = 0; i < 8; i++)
+		b[i] = (uint8_t)(v >> (8 * i));
+	sha256_update(h, 8, b);
+}
+
+static void put_str(struct sha256_ctx *h, const char *s)
+{
+	size_t n = strlen(s);
+	uint8_t b[4] = {(uint8_t)n, (uint8_t)(n >> 8), (uint8_t)(n >> 16), (uint8_t)(n >> 24)};
+	sha256_update(h, 4, b);
+	sha256_update(h, n, (const uint8_t *)s);
+}
+
+static int cmp64(const void *a, const void *b)
+{
+	int64_t x = *(const int64_t *)a, y = *(const int64_t *)b;
+	return (x > y) - (x < y);
+}
+
+static int load(bc_shift *s, bc_db *db, bc_err *err)
+{
+	sqlite3_stmt *st = NULL;
+	strmap refs = {NULL, 0};
+	int64_t *locids = NULL;
+	size_t cap = 0;
+	char *prefix = NULL;
+	struct sha256_ctx hash;
+	int rc = bc_db__prepare(db, &st, s->opts.has_region ? SQL_SELECT_REGION : SQL_SELECT, err);
+	if (rc)
+		return rc;
+	int artic = art_class(s->opts.preservation);
+	if (s->opts.taxon) {
+		/* "Genus" also matches "Genus species ..." in scientific_name. */
+		bc_buf b = {0};
+		for (const char *p = s->opts.taxon; *p; p++) {
+			if ((*p == '%' || *p == '_' || *p == '\\') && bc__buf_puts(&b, "\\"))
+				break;
+			if (bc__buf_append(&b, p, 1))
+				break;
+		}
+		if (bc__buf_puts(&b, " %")) {
+			bc__buf_free(&b);
+			rc = oom(err);
+			goto done;
+		}
+		prefix = b.data;
+	}
+	bc_db__bind_text(st, ":grp", s->opts.group);
+	bc_db__bind_text(st, ":taxon", s->opts.taxon);
+	bc_db__bind_text(st, ":taxon_prefix", prefix);
+	bc_db__bind_text(st, ":artic", artic >= 0 ? art_classes[artic] : NULL);
+	bc_db__bind_text(st, ":pres", artic >= 0 ? NULL : s->opts.preservation);
+	sha256_init(&hash);
+	int64_t maxloc = -1;
+	int step, last_class = -1;
+	char last_art[64] = "";
+	while ((step = sqlite3_step(st)) == SQLITE_ROW) {
+		s->sum.n_selected++;
+		if (s->opts.has_region) {
+			if (sqlite3_column_type(st, 8) == SQLITE_NULL || sqlite3_column_type(st, 9) == SQLITE_NULL) {
+				s->sum.n_no_coordinates++;
+				continue;
+			}
+			if (!in_region(s->opts.region, sqlite3_column_double(st, 8), sqlite3_column_double(st, 9))) {
+				s->sum.n_outside_region++;
+				continue;
+			}
+		}
+		/* Each column is read once: every sqlite3_column_* call takes the connection's mutex. */
+		int64_t pk = sqlite3_column_int64(st, 0);
+		double v[4];
+		uint64_t bits[4];
+		int isnull[4];
+		for (int c = 0; c < 4; c++) {
+			isnull[c] = sqlite3_column_type(st, c + 1) == SQLITE_NULL;
+			v[c] = isnull[c] ? NAN : sqlite3_column_double(st, c + 1);
+			bits[c] = 0x7ff8000000000000ULL;
+			if (!isnull[c])
+				memcpy(&bits[c], &v[c], sizeof bits[c]);
+		}
+		const char *ref = (const char *)sqlite3_column_text(st, 5);
+		int64_t loc = sqlite3_column_type(st, 6) == SQLITE_NULL ? -1 : sqlite3_column_int64(st, 6);
+		const char *art = (const char *)sqlite3_column_text(st, 7);
+		ref = ref ? ref : "";
+		art = art ? art : "";
+		put_le64(&hash, (uint64_t)pk);
+		for (int c = 0; c < 4; c++)
+			put_le64(&hash, bits[c]);
+		put_le64(&hash, (uint64_t)loc);
+		put_str(&hash, art);
+		put_str(&hash, ref);
+		int nomin = isnull[2], nomax = isnull[3];
+		if (nomin && nomax) {
+			s->sum.n_no_depth++;
+			continue;
+		}
+		if (s->nocc == cap) {
+			size_t nc = cap ? 2 * cap : 4096;
+			bc_shift__occ *p = bc__realloc(s->occ, nc * sizeof *p);
+			int64_t *q = p ? bc__realloc(locids, nc * sizeof *q) : NULL;
+			if (p)
+				s->occ = p;
+			if (!q) {
+				rc = oom(err);
+				goto done;
+			}
+			locids = q;
+			cap = nc;
+		}
+		bc_shift__occ *o = &s->occ[s->nocc];
+		o->pk = pk;
+		o->older = v[0];
+		o->younger = v[1];
+		/* One depth alone stands for the range [d, d]. */
+		o->dmin = nomin ? v[3] : v[2];
+		o->dmax = nomax ? v[2] : v[3];
+		o->ref = -1;
+		if (*ref && intern(s, &refs, ref, &o->ref)) {
+			rc = oom(err);
+			goto done;
+		}
+		/* the class of the previous row is usually the same */
+		if (strcmp(art, last_art) != 0) {
+			last_class = art_class(art);
+			snprintf(last_art, sizeof last_art, "%s", art);
+		}
+		int a = strlen(art) < sizeof last_art ? last_class : art_class(art);
+		o->artic = (uint8_t)(a < 0 ? BC_SHIFT__ART_UNKNOWN : a);
+		int z2 = bc_shift__zone(o->dmin, o->dmax, s->opts.zones, 1);
+		o->zone2 = (uint8_t)(z2 < 0 ? BC_SHIFT__STRADDLE : z2);
+		int zk = bc_shift__zone(o->dmin, o->dmax, s->opts.zones, s->opts.n_zones);
+		o->zonek = (uint8_t)(zk < 0 ? BC_SHIFT__ZSTRADDLE : zk);
+		locids[s->nocc] = loc;
+		if (loc > maxloc)
+			maxloc = loc;
+		s->nocc++;
+	}
+	if (step != SQLITE_DONE) {
+		rc = bc_db__error(db, err, "reading occurrences");
+		goto done;
+	}
+	uint8_t d[SHA256_DIGEST_SIZE];
+	sha256_digest(&hash, sizeof d, d);
+	for (int i = 0; i < SHA256_DIGEST_SIZE; i++)
+		snprintf(s->sum.data_sha256 + 2 * i, 3, "%02x", d[i]);
+	/* Dense locality indices: ids are AUTOINCREMENT, so usually direct. */
+	if (maxloc >= 0 && (uint64_t)maxloc < 4 * (uint64_t)s->nocc + 1024 && maxloc < INT32_MAX) {
+		for (size_t i = 0; i < s->nocc; i++)
+			s->occ[i].loc = (int32_t)locids[i];
+		s->nloc = (size_t)maxloc + 1;
+	} else if (maxloc >= 0) {
+		int64_t *u = bc__malloc(s->nocc * sizeof *u);
+		size_t nu = 0;
+		if (!u) {
+			rc = oom(err);
+			goto done;
+		}
+		for (size_t i = 0; i < s->nocc; i++)
+			if (locids[i] >= 0)
+				u[nu++] = locids[i];
+		qsort(u, nu, sizeof *u, cmp64);
+		size_t m = 0;
+		for (size_t i = 0; i < nu; i++)
+			if (!m || u[m - 1] != u[i])
+				u[m++] = u[i];
+		for (size_t i = 0; i < s->nocc; i++) {
+			s->occ[i].loc = -1;
+			if (locids[i] < 0)
+				continue;
+			size_t lo = 0, hi = m;
+			while (lo < hi) {
+				size_t mid = (lo + hi) / 2;
+				if (u[mid] < locids[i])
+					lo = mid + 1;
+				else
+					hi = mid;
+			}
+			s->occ[i].loc = (int32_t)lo;
+		}
+		s->nloc = m;
+		free(u);
+	} else {
+		for (size_t i = 0; i < s->nocc; i++)
+			s->occ[i].loc = -1;
+	}
+done:
+	sqlite3_finalize(st);
+	free(refs.slot);
+	free(locids);
+	free(prefix);
+	return rc;
+}
+
+
+static int read_vocabs(bc_shift *s, bc_db *db, bc_err *err)
+{
+	sqlite3_stmt *st = NULL;
+	bc_buf b = {0};
+	int rc = bc_db__prepare(db, &st, SQL_VOCABS, err), step;
+	if (rc)
+		return rc;
+	while (rc == BC_OK && (step = sqlite3_step(st)) == SQLITE_ROW)
+		rc = bc__buf_printf(&b, "%s%s %s sha256:%s", b.len ? "; " : "", (const char *)sqlite3_column_text(st, 0),
+			(const char *)sqlite3_column_text(st, 1), (const char *)sqlite3_column_text(st, 2)) ? oom(err) : BC_OK;
+	if (rc == BC_OK && step != SQLITE_DONE)
+		rc = bc_db__error(db, err, "reading the vocabularies");
+	sqlite3_finalize(st);
+	if (rc == BC_OK && !b.len && bc__buf_puts(&b, "none recorded in the database"))
+		rc = oom(err);
+	if (rc) {
+		bc__buf_free(&b);
+		return rc;
+	}
+	s->vocabs = b.data;
+	return BC_OK;
+}
+
+/* ------------------------------------------------------------------ */
+/* Statistics                                                           */
+/* ------------------------------------------------------------------ */
+
+static void bin_stats(bc_shift *s, const double *counts, const size_t *nrefs, const size_t *nlocs, size_t first)
+{
+	size_t stride = bc_shift__stride(s->opts.zones_given ? s->opts.n_zones : 0);
+	double level = s->opts.level;
+	for (size_t i = 0; i < s->nbins; i++) {
+		const double *c = &counts[(first + i) * stride];
+		bc_shift_bin *b = &s->out[i];
+		b->name = s->bins[i].name;
+		b->older_ma = s->bins[i].older;
+		b->younger_ma = s->bins[i].younger;
+		b->n_shallow = c[BC_SHIFT__C_SHALLOW];
+		b->n_deep = c[BC_SHIFT__C_DEEP];
+		b->n_straddle = c[BC_SHIFT__C_STRADDLE];
+		b->n = b->n_shallow + b->n_deep + b->n_straddle;
+		double m = b->n_shallow + b->n_deep;
+		b->frac_deep = b->frac_deep_lo = b->frac_deep_hi = NAN;
+		if (m > 0) {
+			b->frac_deep = b->n_deep / m;
+			bc_stats__wilson(b->n_deep, m, level, &b->frac_deep_lo, &b->frac_deep_hi);
+		}
+		b->n_references = nrefs[first + i];
+		b->n_localities = nlocs[first + i];
+		b->n_articulated = c[BC_SHIFT__C_ART + BC_SHIFT__ART_ARTICULATED];
+		b->n_partly_articulated = c[BC_SHIFT__C_ART + BC_SHIFT__ART_PARTLY];
+		b->n_disarticulated = c[BC_SHIFT__C_ART + BC_SHIFT__ART_DISARTICULATED];
+		b->n_articulation_unknown = c[BC_SHIFT__C_ART + BC_SHIFT__ART_UNKNOWN];
+		b->diff = b->diff_lo = b->diff_hi = b->fisher_p = NAN;
+		if (i > 0) {
+			const bc_shift_bin *p = &s->out[i - 1];
+			double pm = p->n_shallow + p->n_deep;
+			if (m > 0 && pm > 0) {
+				/* later (this) minus earlier (previous) */
+				bc_stats__newcombe_diff(b->n_deep, m, p->n_deep, pm, level, &b->diff, &b->diff_lo, &b->diff_hi);
+				b->fisher_p = bc_stats__fisher_two_sided(lround(p->n_deep), lround(p->n_shallow),
+					lround(b->n_deep), lround(b->n_shallow));
+			}
+		}
+		b->n_zone = NULL;
+		b->n_zone_straddle = NAN;
+		if (s->opts.zones_given) {
+			double *z = &s->zone_counts[i * (s->opts.n_zones + 1)];
+			for (size_t k = 0; k <= s->opts.n_zones; k++)
+				z[k] = c[BC_SHIFT__C_ZONE + k];
+			b->n_zone = z;
+			b->n_zone_straddle = c[BC_SHIFT__C_ZSTRADDLE];
+		}
+	}
+}
+
+static void across_stats(bc_shift *s)
+{
+	bc_shift_tests *t = &s->tests;
+	t->trend_z = t->trend_p = NAN;
+	t->logit_intercept = t->logit_slope = t->logit_slope_se = t->logit_p = NAN;
+	t->break_ma = t->break_lr = NAN;
+	t->break_before = t->break_after = NULL;
+	t->n_bins_tested = 0;
+	size_t k = 0;
+	double *sv = bc__calloc(s->nbins, sizeof *sv), *nv = bc__calloc(s->nbins, sizeof *nv), *xv = bc__calloc(s->nbins, sizeof *xv);
+	size_t *idx = bc__calloc(s->nbins, sizeof *idx);
+	double stot = 0, ntot = 0;
+	if (!sv || !nv || !xv || !idx)
+		goto done;
+	for (size_t i = 0; i < s->nbins; i++) {
+		const bc_shift_bin *b = &s->out[i];
+		double m = b->n_shallow + b->n_deep;
+		if (!(m > 0))
+			continue;
+		sv[k] = b->n_deep;
+		nv[k] = m;
+		/* scores: minus the midpoint age, so positive = toward the present */
+		xv[k] = -(b->older_ma + b->younger_ma) / 2;
+		idx[k++] = i;
+		stot += b->n_deep;
+		ntot += m;
+	}
+	t->n_bins_tested = k;
+	if (k < 2 || !(stot > 0) || !(stot < ntot))
+		goto done;
+	bc_trend tr;
+	if (bc_stats__trend(sv, nv, xv, k, &tr) == 0 && isfinite(tr.z)) {
+		t->trend_z = tr.z;
+		t->trend_p = tr.p;
+	}
+	bc_logistic lg;
+	memset(&lg, 0, sizeof lg);
+	if (bc_stats__logistic(sv, nv, xv, k, &lg) == 0) {
+		t->logit_converged = lg.converged;
+		if (lg.converged) {
+			t->logit_intercept = lg.intercept;
+			t->logit_slope = lg.slope;
+			t->logit_slope_se = lg.slope_se;
+			t->logit_p = lg.p;
+		}
+	}
+	size_t at = 0;
+	double lr = NAN;
+	if (bc_stats__breakpoint(sv, nv, k, &at, &lr) == 0 && at >= 1 && at < k) {
+		t->break_ma = s->out[idx[at]].older_ma;
+		t->break_before = s->out[idx[at - 1]].name;
+		t->break_after = s->out[idx[at]].name;
+		t->break_lr = lr;
+	}
+done:
+	free(sv);
+	free(nv);
+	free(xv);
+	free(idx);
+}
+
+/* ------------------------------------------------------------------ */
+/* Compute                                                              */
+/* ------------------------------------------------------------------ */
+
+void bc_shift_free(bc_shift *s)
+{
+	if (!s)
+		return;
+	free(s->group);
+	free(s->taxon);
+	free(s->preservation);
+	free(s->timescale);
+	free(s->bins_file);
+	free(s->db_path);
+	free(s->chart_name);
+	free(s->chart_source);
+	free(s->bins_file_sha);
+	free(s->vocabs);
+	free(s->occ);
+	for (size_t i = 0; i < s->nref; i++)
+		free(s->refkeys[i]);
+	free(s->refkeys);
+	bc_shift__bins_free(s->bins, s->nbins);
+	free(s->out);
+	free(s->zone_counts);
+	free(s);
+}
+
+static int dup_opt(char **dst, const char **field)
+{
+	if (!*field)
+		return 0;
+	if (!(*dst = bc__strdup(*field)))
+		return -1;
+	*field = *dst;
+	return 0;
+}
+
+/* The selection as words, for messages and the stamp. */
+static void describe_selection(const bc_shift_options *o, bc_buf *b)
+{
+	size_t start = b->len;
+	if (o->group)
+		bc__buf_printf(b, "%sgroup %s", b->len > start ? ", " : "", o->group);
+	if (o->taxon)
+		bc__buf_printf(b, "%staxon %s", b->len > start ? ", " : "", o->taxon);
+	if (o->preservation)
+		bc__buf_printf(b, "%spreservation %s", b->len > start ? ", " : "", o->preservation);
+	if (o->has_region)
+		bc__buf_printf(b, "%sregion %g,%g,%g,%g (W,S,E,N)", b->len > start ? ", " : "", o->region[0], o->region[1], o->region[2], o->region[3]);
+	if (b->len == start)
+		bc__buf_puts(b, "all occurrences");
+}
+
+static void excluded_words(const bc_shift_summary *u, bc_buf *b)
+{
+	const struct { size_t n; const char *why; } ex[] = {
+		{u->n_no_coordinates, "no coordinates (--region)"}, {u->n_outside_region, "outside the region"},
+		{u->n_no_depth, "no palaeodepth"}, {u->n_too_long, "age range longer than --span max"},
+		{u->n_outside_bins, "age outside every bin"},
+	};
+	for (size_t i = 0; i < sizeof ex / sizeof ex[0]; i++)
+		if (ex[i].n)
+			bc__buf_printf(b, "%s%zu %s", b->len ? ", " : "", ex[i].n, ex[i].why);
+}
+
+int bc_shift_compute(bc_shift **out, bc_db *db, const bc_shift_options *opts, bc_err *err)
+{
+	*out = NULL;
+	double *counts = NULL;
+	size_t *nrefs = NULL, *nlocs = NULL, ncand = 0;
+	bc_shift__bin *cand = NULL;
+	bc_buf words = {0};
+	int rc = BC_OK;
+	if (!opts->n_zones || opts->n_zones > BC_SHIFT_MAX_ZONES)
+		return bc_err_set(err, BC_EUSAGE, "shift: no depth boundary (--split or --zones)");
+	if (!(opts->level > 0 && opts->level < 1))
+		return bc_err_set(err, BC_EUSAGE, "--level: %g is not between 0 and 1", opts->level);
+	if (opts->bins == BC_BINS_WIDTH && !(opts->bin_width > 0))
+		return bc_err_set(err, BC_EUSAGE, "--bins: width must be positive");
+	if (opts->bins == BC_BINS_FILE && !opts->bins_file)
+		return bc_err_set(err, BC_EUSAGE, "--bins: no file given");
+	bc_shift *s = bc__calloc(1, sizeof *s);
+	if (!s)
+		return oom(err);
+	s->opts = *opts;
+	if (dup_opt(&s->group, &s->opts.group) || dup_opt(&s->taxon, &s->opts.taxon) ||
+	    dup_opt(&s->preservation, &s->opts.preservation) || dup_opt(&s->timescale, &s->opts.timescale) ||
+	    dup_opt(&s->bins_file, &s->opts.bins_file) || !(s->db_path = bc__strdup(bc_db_path(db)))) {
+		rc = oom(err);
+		goto done;
+	}
+	s->opts.chart = NULL; /* borrowed only during the computation */
+	if (opts->bins <= BC_BINS_PERIOD) {
+		bc_shift_options tmp = s->opts;
+		tmp.chart = opts->chart;
+		s->opts = tmp;
+		rc = bins_from_chart(s, db, &cand, &ncand, err);
+		s->opts.chart = NULL;
+	} else if (opts->bins == BC_BINS_FILE) {
+		rc = bc_shift__bins_read(&cand, &ncand, s->opts.bins_file, err);
+		if (rc == BC_OK) {
+			char hex[65];
+			rc = bc__sha256_file(s->opts.bins_file, hex, err);
+			if (rc == BC_OK && !(s->bins_file_sha = bc__strdup(hex)))
+				rc = oom(err);
+		}
+	}
+	if (rc == BC_OK)
+		rc = read_vocabs(s, db, err);
+	if (rc == BC_OK)
+		rc = load(s, db, err);
+	if (rc)
+		goto done;
+	describe_selection(&s->opts, &words);
+	if (s->sum.n_selected == 0) {
+		rc = bc_err_set(err, BC_EINVALID, "%s: no occurrences match the selection (%s)", s->db_path, words.data ? words.data : "");
+		goto done;
+	}
+	if (s->nocc == 0) {
+		bc_buf ex = {0};
+		excluded_words(&s->sum, &ex);
+		rc = bc_err_set(err, BC_EINVALID, "%s: %zu occurrences match the selection (%s), but none is left to count: %s",
+			s->db_path, s->sum.n_selected, words.data ? words.data : "", ex.data ? ex.data : "");
+		bc__buf_free(&ex);
+		goto done;
+	}
+	if (opts->bins == BC_BINS_WIDTH && (rc = bins_width(s, &cand, &ncand, err)))
+		goto done;
+	size_t nz = s->opts.zones_given ? s->opts.n_zones : 0, stride = bc_shift__stride(nz);
+	counts = bc__malloc(ncand * stride * sizeof *counts);
+	nrefs = bc__calloc(ncand, sizeof *nrefs);
+	nlocs = bc__calloc(ncand, sizeof *nlocs);
+	if (!counts || !nrefs || !nlocs) {
+		rc = oom(err);
+		goto done;
+	}
+	bc_shift__tally tally;
+	rc = bc_shift__count(counts, nrefs, nlocs, &tally, s->occ, s->nocc, cand, ncand, (int)s->opts.span,
+		s->opts.span_max_myr, nz, s->nref, s->nloc, err);
+	if (rc)
+		goto done;
+	s->sum.n_too_long = tally.n_too_long;
+	s->sum.n_outside_bins = tally.n_outside;
+	s->sum.n_used = tally.n_used;
+	s->sum.n_multi_bin = tally.n_multi;
+	if (tally.n_used == 0) {
+		bc_buf ex = {0};
+		excluded_words(&s->sum, &ex);
+		rc = bc_err_set(err, BC_EINVALID, "%s: %zu occurrences match the selection (%s), but none is left to count: %s",
+			s->db_path, s->sum.n_selected, words.data ? words.data : "", ex.data ? ex.data : "");
+		bc__buf_free(&ex);
+		goto done;
+	}
+	/* Report the span from the oldest to the youngest occupied bin, empty bins between included. */
+	size_t first = ncand, last = 0;
+	for (size_t k = 0; k < ncand; k++) {
+		const double *c = &counts[k * stride];
+		if (c[0] + c[1] + c[2] > 0) {
+			if (first == ncand)
+				first = k;
+			last = k;
+		}
+	}
+	s->nbins = last - first + 1;
+	s->bins = bc__calloc(s->nbins, sizeof *s->bins);
+	s->out = bc__calloc(s->nbins, sizeof *s->out);
+	s->zone_counts = bc__calloc(s->nbins * (s->opts.n_zones + 1), sizeof *s->zone_counts);
+	if (!s->bins || !s->out || !s->zone_counts) {
+		s->nbins = 0;
+		rc = oom(err);
+		goto done;
+	}
+	for (size_t k = 0; k < s->nbins; k++) {
+		s->bins[k] = cand[first + k];
+		cand[first + k].name = NULL; /* moved */
+	}
+	bin_stats(s, counts, nrefs, nlocs, first);
+	across_stats(s);
+done:
+	bc__buf_free(&words);
+	bc_shift__bins_free(cand, ncand);
+	free(counts);
+	free(nrefs);
+	free(nlocs);
+	if (rc) {
+		bc_shift_free(s);
+		return rc;
+	}
+	*out = s;
+	return BC_OK;
+}
+
+size_t bc_shift_bin_count(const bc_shift *s) { return s->nbins; }
+const bc_shift_bin *bc_shift_bin_at(const bc_shift *s, size_t i) { return i < s->nbins ? &s->out[i] : NULL; }
+const bc_shift_tests *bc_shift_tests_get(const bc_shift *s) { return &s->tests; }
+const bc_shift_summary *bc_shift_summary_get(const bc_shift *s) { return &s->sum; }
+
+/* ------------------------------------------------------------------ */
+/* Output                                                               */
+/* ------------------------------------------------------------------ */
+
+static const char *rank_word(bc_bin_scheme b)
+{
+	return b == BC_BINS_EPOCH ? "epoch" : b == BC_BINS_PERIOD ? "period" : "stage";
+}
+
+static void describe_bins(const bc_shift *s, bc_buf *b)
+{
+	const bc_shift_options *o = &s->opts;
+	switch (o->bins) {
+	case BC_BINS_WIDTH:
+		bc__buf_printf(b, "equal widths of %g Myr, edges at multiples of %g Myr from 0 Ma", o->bin_width, o->bin_width);
+		break;
+	case BC_BINS_FILE:
+		bc__buf_printf(b, "file %s (sha256:%s)", o->bins_file, s->bins_file_sha ? s->bins_file_sha : "");
+		break;
+	default:
+		bc__buf_printf(b, "%s (chart rank %s) of chart %s", rank_word(o->bins),
+			o->bins == BC_BINS_STAGE ? "age" : rank_word(o->bins), s->chart_name ? s->chart_name : "");
+		break;
+	}
+	bc__buf_puts(b, "; a bin holds its older bound, not its younger one; from the oldest to the youngest occupied bin, empty bins included");
+}
+
+static void describe_span(const bc_shift_options *o, bc_buf *b)
+{
+	switch (o->span) {
+	case BC_SPAN_ALL:
+		bc__buf_puts(b, "all: an occurrence is counted in every bin its age range overlaps, so bin counts add up to more than the occurrences used");
+		break;
+	case BC_SPAN_SPLIT:
+		bc__buf_puts(b, "split: an occurrence is divided among the bins its age range overlaps in proportion to the overlap (fractional counts)");
+		break;
+	case BC_SPAN_MAX:
+		bc__buf_printf(b, "max:%g: occurrences whose age range is longer than %g Myr are left out; the rest go to the bin holding most of their range (ties: the older bin)",
+			o->span_max_myr, o->span_max_myr);
+		break;
+	default:
+		bc__buf_puts(b, "majority: an occurrence goes to the one bin holding most of its age range (ties: the older bin)");
+		break;
+	}
+}
+
+static void describe_zones(const bc_shift_options *o, bc_buf *b)
+{
+	if (!o->zones_given) {
+		bc__buf_printf(b, "split at %g m", o->zones[0]);
+		if (o->zones[0] == 200)
+			bc__buf_puts(b, "; " SPLIT_NOTE);
+		return;
+	}
+	bc__buf_puts(b, "zones at ");
+	for (size_t i = 0; i < o->n_zones; i++)
+		bc__buf_printf(b, "%s%g", i ? ", " : "", o->zones[i]);
+	bc__buf_printf(b, " m: zone1 above %g m", o->zones[0]);
+	for (size_t i = 1; i < o->n_zones; i++)
+		bc__buf_printf(b, ", zone%zu %g-%g m", i + 1, o->zones[i - 1], o->zones[i]);
+	bc__buf_printf(b, ", zone%zu at or below %g m; n_shallow, n_deep, n_straddle and frac_deep use the first boundary (%g m) alone",
+		o->n_zones + 1, o->zones[o->n_zones - 1], o->zones[0]);
+}
+
+static void put_arg(bc_buf *b, const char *name, const char *v)
+{
+	int plain = strpbrk(v, " \t'\"\\$`") == NULL && *v;
+	bc__buf_printf(b, " --%s ", name);
+	if (plain) {
+		bc__buf_puts(b, v);
+		return;
+	}
+	bc__buf_puts(b, "'");
+	for (const char *p = v; *p; p++)
+		*p == '\'' ? bc__buf_puts(b, "'\\''") : bc__buf_append(b, p, 1);
+	bc__buf_puts(b, "'");
+}
+
+/* Every option, as the command line that repeats this table. */
+static void describe_options(const bc_shift_options *o, bc_buf *b)
+{
+	char v[256];
+	if (o->group)
+		put_arg(b, "group", o->group);
+	if (o->taxon)
+		put_arg(b, "taxon", o->taxon);
+	if (o->preservation)
+		put_arg(b, "preservation", o->preservation);
+	if (o->has_region) {
+		snprintf(v, sizeof v, "%g,%g,%g,%g", o->region[0], o->region[1], o->region[2], o->region[3]);
+		put_arg(b, "region", v);
+	}
+	if (o->timescale)
+		put_arg(b, "timescale", o->timescale);
+	if (o->bins == BC_BINS_WIDTH) {
+		snprintf(v, sizeof v, "%g", o->bin_width);
+		put_arg(b, "bins", v);
+	} else if (o->bins == BC_BINS_FILE) {
+		put_arg(b, "bins", o->bins_file);
+	} else {
+		put_arg(b, "bins", rank_word(o->bins));
+	}
+	if (o->span == BC_SPAN_MAX) {
+		snprintf(v, sizeof v, "max:%g", o->span_max_myr);
+		put_arg(b, "span", v);
+	} else {
+		put_arg(b, "span", o->span == BC_SPAN_ALL ? "all" : o->span == BC_SPAN_SPLIT ? "split" : "majority");
+	}
+	size_t k = 0;
+	for (size_t i = 0; i < o->n_zones; i++)
+		k += (size_t)snprintf(v + k, sizeof v - k, "%s%g", i ? "," : "", o->zones[i]);
+	put_arg(b, o->zones_given ? "zones" : "split", v);
+	snprintf(v, sizeof v, "%g", o->level);
+	put_arg(b, "level", v);
+}
+
+static int build_table(const bc_shift *s, bc_table **out, bc_err *err)
+{
+	bc_table *t = NULL;
+	bc_buf b = {0};
+	int rc = bc_output__table_new(&t, "bins", err);
+	if (rc)
+		return rc;
+	static const struct { const char *name; bc_col_type type; int digits; } cols[] = {
+		{"bin", BC_COL_TEXT, 0}, {"older_ma", BC_COL_REAL, -1}, {"younger_ma", BC_COL_REAL, -1},
+		{"n", BC_COL_COUNT, 0}, {"n_shallow", BC_COL_COUNT, 0}, {"n_deep", BC_COL_COUNT, 0},
+		{"n_straddle", BC_COL_COUNT, 0}, {"frac_deep", BC_COL_REAL, 3}, {"frac_deep_lo", BC_COL_REAL, 3},
+		{"frac_deep_hi", BC_COL_REAL, 3}, {"n_references", BC_COL_COUNT, 0}, {"n_localities", BC_COL_COUNT, 0},
+		{"n_articulated", BC_COL_COUNT, 0}, {"n_partly_articulated", BC_COL_COUNT, 0},
+		{"n_disarticulated", BC_COL_COUNT, 0}, {"n_articulation_unknown", BC_COL_COUNT, 0},
+		{"diff", BC_COL_REAL, 3}, {"diff_lo", BC_COL_REAL, 3}, {"diff_hi", BC_COL_REAL, 3}, {"fisher_p", BC_COL_P, 0},
+	};
+	const size_t nfix = sizeof cols / sizeof cols[0];
+	for (size_t i = 0; rc == BC_OK && i < nfix; i++)
+		rc = bc_output__add_column(t, cols[i].name, cols[i].type, cols[i].digits, err);
+	if (s->opts.zones_given) {
+		char name[32];
+		for (size_t z = 0; rc == BC_OK && z <= s->opts.n_zones; z++) {
+			snprintf(name, sizeof name, "n_zone%zu", z + 1);
+			rc = bc_output__add_column(t, name, BC_COL_COUNT, 0, err);
+		}
+		if (rc == BC_OK)
+			rc = bc_output__add_column(t, "n_zone_straddle", BC_COL_COUNT, 0, err);
+	}
+	for (size_t i = 0; rc == BC_OK && i < s->nbins; i++) {
+		const bc_shift_bin *x = &s->out[i];
+		rc = bc_output__add_row(t, err);
+		if (rc == BC_OK)
+			rc = bc_output__set_text(t, 0, x->name, err);
+		if (rc)
+			break;
+		const double v[] = {x->older_ma, x->younger_ma, x->n, x->n_shallow, x->n_deep, x->n_straddle,
+			x->frac_deep, x->frac_deep_lo, x->frac_deep_hi, (double)x->n_references, (double)x->n_localities,
+			x->n_articulated, x->n_partly_articulated, x->n_disarticulated, x->n_articulation_unknown,
+			x->diff, x->diff_lo, x->diff_hi, x->fisher_p};
+		for (size_t c = 0; c < sizeof v / sizeof v[0]; c++)
+			bc_output__set_num(t, c + 1, v[c]);
+		if (x->n_zone) {
+			for (size_t z = 0; z <= s->opts.n_zones; z++)
+				bc_output__set_num(t, nfix + z, x->n_zone[z]);
+			bc_output__set_num(t, nfix + s->opts.n_zones + 1, x->n_zone_straddle);
+		}
+	}
+	/* Caption: selection, binning, zoning, chart. */
+	if (rc == BC_OK) {
+		bc__buf_puts(&b, "Occurrence shift: ");
+		describe_selection(&s->opts, &b);
+		bc__buf_printf(&b, "; bins: %s", s->opts.bins == BC_BINS_WIDTH ? "equal widths" : s->opts.bins == BC_BINS_FILE ? "from a file" : rank_word(s->opts.bins));
+		if (s->opts.bins == BC_BINS_WIDTH)
+			bc__buf_printf(&b, " of %g Myr", s->opts.bin_width);
+		if (s->chart_name)
+			bc__buf_printf(&b, " (chart %s)", s->chart_name);
+		bc__buf_puts(&b, ", span rule ");
+		bc__buf_puts(&b, s->opts.span == BC_SPAN_ALL ? "all" : s->opts.span == BC_SPAN_SPLIT ? "split" : s->opts.span == BC_SPAN_MAX ? "max" : "majority");
+		bc__buf_puts(&b, "; depth: ");
+		describe_zones(&s->opts, &b);
+		bc__buf_printf(&b, "; frac_deep with Wilson %g%% intervals; diff = later minus earlier bin (Newcombe hybrid score interval, Fisher exact p).",
+			100 * s->opts.level);
+		rc = b.data ? bc_output__set_caption(t, b.data, err) : oom(err);
+		bc__buf_free(&b);
+	}
+	/* Tests across bins. */
+	const bc_shift_tests *te = &s->tests;
+	bc_meta_section T = BC_META_TESTS;
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, T, "bins_tested", (double)te->n_bins_tested, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, T, "trend_test", err, "Cochran-Armitage (Armitage z with N in the variance) over bins with shallow or deep occurrences; "
+			"scores = minus the bin midpoint age in Ma, so z > 0 means the deep share rises toward the present");
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, T, "trend_z", te->trend_z, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, T, "trend_p", te->trend_p, 1, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, T, "logistic_model", err, "logit P(deep) = intercept + slope * (minus the bin midpoint age, Ma), maximum likelihood on the grouped counts; "
+			"slope = change in log-odds of deep per Myr toward the present; Wald p");
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, T, "logit_intercept", te->logit_intercept, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, T, "logit_slope_per_myr", te->logit_slope, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, T, "logit_slope_se", te->logit_slope_se, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, T, "logit_p", te->logit_p, 1, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, T, "logit_converged", err, "%s", te->n_bins_tested < 2 || isnan(te->trend_z) ? "not fitted (fewer than two bins, or all shallow / all deep)" : te->logit_converged ? "yes" : "no (separation or non-convergence; estimates withheld)");
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, T, "breakpoint_ma", te->break_ma, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, T, "breakpoint_between", err, "%s%s%s", te->break_before ? te->break_before : "NA",
+			te->break_before ? " | " : "", te->break_after ? te->break_after : "");
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, T, "breakpoint_lr", te->break_lr, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, T, "breakpoint_note", err, "the boundary maximising the binomial likelihood of one deep share before and one after; "
+			"lr = 2 (logL two shares - logL one share); no p-value is given because the maximum over boundaries is not chi-square distributed");
+	/* The methods stamp. */
+	bc_meta_section S = BC_META_STAMP;
+	const bc_shift_summary *u = &s->sum;
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "tool", err, "bathychron %s", BC_VERSION);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "database", err, "%s", s->db_path);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "chart", err, "%s%s%s%s", s->chart_name ? s->chart_name : "none (bins not from a chart)",
+			s->chart_source && *s->chart_source ? " (" : "", s->chart_source ? s->chart_source : "", s->chart_source && *s->chart_source ? ")" : "");
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "vocabularies", err, "%s", s->vocabs);
+	b = (bc_buf){0};
+	describe_options(&s->opts, &b);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "options", err, "%s", b.data ? b.data + 1 : "");
+	bc__buf_free(&b);
+	describe_selection(&s->opts, &b);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "selection", err, "%s", b.data ? b.data : "");
+	bc__buf_free(&b);
+	describe_bins(s, &b);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "bins", err, "%s", b.data ? b.data : "");
+	bc__buf_free(&b);
+	describe_span(&s->opts, &b);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "span_rule", err, "%s", b.data ? b.data : "");
+	bc__buf_free(&b);
+	describe_zones(&s->opts, &b);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "zones", err, "%s", b.data ? b.data : "");
+	bc__buf_free(&b);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "zone_rule", err, "at a boundary S a depth range [min, max] is shallow when max <= S and min < S, deep when min >= S, "
+			"otherwise straddling (not in frac_deep); a single depth d is [d, d]; one missing end is taken as equal to the other");
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, S, "level", s->opts.level, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "data_sha256", err, "%s", u->data_sha256);
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, S, "selected", (double)u->n_selected, 0, err);
+	if (rc == BC_OK && s->opts.has_region)
+		rc = bc_output__meta_num(t, S, "excluded_no_coordinates", (double)u->n_no_coordinates, 0, err);
+	if (rc == BC_OK && s->opts.has_region)
+		rc = bc_output__meta_num(t, S, "excluded_outside_region", (double)u->n_outside_region, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, S, "excluded_no_palaeodepth", (double)u->n_no_depth, 0, err);
+	if (rc == BC_OK && s->opts.span == BC_SPAN_MAX)
+		rc = bc_output__meta_num(t, S, "excluded_age_range_too_long", (double)u->n_too_long, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, S, "excluded_outside_bins", (double)u->n_outside_bins, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, S, "used", (double)u->n_used, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, S, "spanning_more_than_one_bin", (double)u->n_multi_bin, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "change", err, "diff = frac_deep(bin) - frac_deep(previous, older bin) with the Newcombe (1998b) hybrid score interval; "
+			"fisher_p: two-sided Fisher exact test of the two bins' shallow/deep counts%s; NA when either bin has no shallow or deep occurrence",
+			s->opts.span == BC_SPAN_SPLIT ? " (fractional counts rounded to the nearest integer for this test only)" : "");
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "caution", err, "%s", CAUTION);
+	if (rc) {
+		bc_output__table_free(t);
+		return rc;
+	}
+	*out = t;
+	return BC_OK;
+}
+
+int bc_shift_write(const bc_shift *s, FILE *f, bc_format format, bc_err *err)
+{
+	bc_table *t = NULL;
+	int rc = build_table(s, &t, err);
+	if (rc == BC_OK)
+		rc = bc_output__write(t, f, format, err);
+	bc_output__table_free(t);
+	return rc;
+}
+
+static const char REFERENCES[] =
+	"References\n\n"
+	"Agresti A (2002) Categorical Data Analysis, 2nd ed. Wiley, Hoboken, NJ.\n"
+	"Armitage P (1955) Tests for linear trends in proportions and frequencies. Biometrics 11(3):375-386.\n"
+	"Cochran WG (1954) Some methods for strengthening the common chi-square tests. Biometrics 10(4):417-451.\n"
+	"Cohen KM, Finney SC, Gibbard PL, Fan J-X (2013; updated) The ICS International Chronostratigraphic Chart. Episodes 36(3):199-204.\n"
+	"Fisher RA (1935) The Design of Experiments. Oliver and Boyd, Edinburgh.\n"
+	"Newcombe RG (1998a) Two-sided confidence intervals for the single proportion: comparison of seven methods. Statistics in Medicine 17(8):857-872.\n"
+	"Newcombe RG (1998b) Interval estimation for the difference between independent proportions: comparison of eleven methods. Statistics in Medicine 17(8):873-890.\n"
+	"Wilson EB (1927) Probable inference, the law of succession, and statistical inference. Journal of the American Statistical Association 22(158):209-212.\n";
+
+int bc_shift_write_methods(const bc_shift *s, FILE *f, bc_err *err)
+{
+	const bc_shift_options *o = &s->opts;
+	const bc_shift_summary *u = &s->sum;
+	bc_buf b = {0}, w = {0};
+	describe_selection(o, &w);
+	bc__buf_printf(&b, "Occurrences were selected from a bathychron %s database (%s; %s); %zu matched",
+		BC_VERSION, w.data ? w.data : "", "data SHA-256 in the table's stamp", u->n_selected);
+	bc__buf_free(&w);
+	excluded_words(u, &w);
+	if (w.len)
+		bc__buf_printf(&b, ", of which were left out: %s", w.data);
+	bc__buf_free(&w);
+	bc__buf_printf(&b, "; %zu were counted. ", u->n_used);
+	if (o->bins <= BC_BINS_PERIOD)
+		bc__buf_printf(&b, "Ages were binned by %s of the International Chronostratigraphic Chart (release %s; Cohen et al. 2013, updated)",
+			rank_word(o->bins), s->chart_name ? s->chart_name : "");
+	else if (o->bins == BC_BINS_WIDTH)
+		bc__buf_printf(&b, "Ages were binned in equal intervals of %g Myr with edges at multiples of %g Myr from the present", o->bin_width, o->bin_width);
+	else
+		bc__buf_printf(&b, "Ages were binned by the intervals listed in %s", o->bins_file);
+	bc__buf_puts(&b, "; each bin includes its older bound. ");
+	switch (o->span) {
+	case BC_SPAN_ALL:
+		bc__buf_printf(&b, "Occurrences whose age range overlapped more than one bin (%zu) were counted in every bin they overlapped, so bins are not independent. ", u->n_multi_bin);
+		break;
+	case BC_SPAN_SPLIT:
+		bc__buf_printf(&b, "Occurrences whose age range overlapped more than one bin (%zu) were divided among those bins in proportion to the overlap. ", u->n_multi_bin);
+		break;
+	case BC_SPAN_MAX:
+		bc__buf_printf(&b, "Occurrences with an age range longer than %g Myr were left out (%zu); of the rest, those overlapping more than one bin (%zu) were assigned to the bin holding most of their range. ",
+			o->span_max_myr, u->n_too_long, u->n_multi_bin);
+		break;
+	default:
+		bc__buf_printf(&b, "Occurrences whose age range overlapped more than one bin (%zu) were assigned to the bin holding most of their range. ", u->n_multi_bin);
+		break;
+	}
+	bc__buf_printf(&b, "An occurrence was classed as shallow when its palaeodepth range lay above %g m (maximum <= %g m and minimum < %g m), "
+		"deep when it lay at or below %g m (minimum >= %g m), and straddling otherwise",
+		o->zones[0], o->zones[0], o->zones[0], o->zones[0], o->zones[0]);
+	if (o->zones[0] == 200 && !o->zones_given)
+		bc__buf_puts(&b, " (200 m, the conventional shelf edge)");
+	if (o->zones_given) {
+		bc__buf_puts(&b, "; counts are also given for depth zones bounded at ");
+		for (size_t i = 0; i < o->n_zones; i++)
+			bc__buf_printf(&b, "%s%g", i ? ", " : "", o->zones[i]);
+		bc__buf_puts(&b, " m by the same rule");
+	}
+	bc__buf_printf(&b, ". The deep share n_deep/(n_shallow + n_deep) of each bin is given with its Wilson (1927) score interval at %g%% confidence "
+		"(see Newcombe 1998a); straddling occurrences are reported but not part of the share. "
+		"Changes between successive bins (later minus earlier) are given with Newcombe's (1998b) hybrid score interval and a two-sided Fisher exact test "
+		"(Fisher 1935; Agresti 2002)", 100 * o->level);
+	if (o->span == BC_SPAN_SPLIT)
+		bc__buf_puts(&b, " on counts rounded to the nearest integer");
+	bc__buf_puts(&b, ". A trend across bins was tested with the Cochran-Armitage test (Cochran 1954; Armitage 1955) with minus the bin-midpoint age as score, "
+		"and the deep share was modelled by logistic regression on bin-midpoint age (Agresti 2002), fitted by maximum likelihood to the grouped counts with a Wald test of the slope; "
+		"the single most likely breakpoint was located as the bin boundary maximising the likelihood of one deep share before and one after. ");
+	const bc_shift_tests *t = &s->tests;
+	if (isfinite(t->trend_z))
+		bc__buf_printf(&b, "Across %zu bins, z = %.2f (p = %.3g)", t->n_bins_tested, t->trend_z, t->trend_p);
+	if (isfinite(t->logit_slope))
+		bc__buf_printf(&b, "; logistic slope %.4g per Myr toward the present (SE %.3g, p = %.3g)", t->logit_slope, t->logit_slope_se, t->logit_p);
+	if (t->break_before)
+		bc__buf_printf(&b, "; most likely breakpoint between %s and %s (%g Ma, likelihood-ratio statistic %.2f)", t->break_before, t->break_after, t->break_ma, t->break_lr);
+	if (isfinite(t->trend_z))
+		bc__buf_puts(&b, ". ");
+	bc__buf_puts(&b, CAUTION "\n\n");
+	bc__buf_puts(&b, REFERENCES);
+	int rc = BC_OK;
+	if (!b.data)
+		rc = oom(err);
+	else if (fwrite(b.data, 1, b.len, f) != b.len)
+		rc = bc_err_set(err, BC_EIO, "writing the methods paragraph failed");
+	bc__buf_free(&b);
+	return rc;
+}

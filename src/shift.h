@@ -1,0 +1,76 @@
+/*
+ * shift.h - private pieces of the shift computation, reusable by later
+ * work (resampling draws, reference weighting, figures): the in-memory
+ * occurrence assignment, zoning, and one function that counts a given
+ * assignment into bins.
+ */
+#ifndef BC_SHIFT_H
+#define BC_SHIFT_H
+
+#include "internal.h"
+#include <stdint.h>
+
+/** One selected occurrence with a palaeodepth, as the counting needs it. */
+typedef struct bc_shift__occ {
+	int64_t pk;            /* occurrence_pk */
+	double older, younger; /* age range, Ma (older >= younger) */
+	double dmin, dmax;     /* palaeodepth range, m */
+	int32_t ref;           /* interned reference key, -1 when none */
+	int32_t loc;           /* dense locality index, -1 when none */
+	uint8_t artic;         /* BC_SHIFT__ART_* */
+	uint8_t zone2;         /* BC_SHIFT__SHALLOW/DEEP/STRADDLE at the first boundary */
+	uint8_t zonek;         /* zone 0..n_zones (shallowest first), or BC_SHIFT__ZSTRADDLE */
+} bc_shift__occ;
+
+enum { BC_SHIFT__SHALLOW = 0, BC_SHIFT__DEEP = 1, BC_SHIFT__STRADDLE = 2 };
+enum { BC_SHIFT__ART_ARTICULATED = 0, BC_SHIFT__ART_PARTLY, BC_SHIFT__ART_DISARTICULATED, BC_SHIFT__ART_UNKNOWN };
+#define BC_SHIFT__ZSTRADDLE 255
+
+/** A bin: older bound inclusive, younger exclusive (see doc/shift.md). */
+typedef struct bc_shift__bin {
+	char *name;
+	double older, younger;
+} bc_shift__bin;
+
+/* Layout of one bin's counts in the flat array bc_shift__count fills. */
+enum {
+	BC_SHIFT__C_SHALLOW = 0, BC_SHIFT__C_DEEP = 1, BC_SHIFT__C_STRADDLE = 2,
+	BC_SHIFT__C_ART = 3,         /* four articulation classes, 3..6 */
+	BC_SHIFT__C_ZSTRADDLE = 7,   /* ranges crossing any --zones boundary */
+	BC_SHIFT__C_ZONE = 8         /* n_zones + 1 zone counts follow */
+};
+/** Doubles per bin in the counts array for `n_zones` boundaries. */
+size_t bc_shift__stride(size_t n_zones);
+
+/**
+ * The zone of a depth range against increasing boundaries b[0..nb-1]:
+ * 0..nb (0 = above b[0]), or -1 when it crosses a boundary. The rule at
+ * each boundary S: above when max <= S and min < S, below when min >= S.
+ */
+int bc_shift__zone(double dmin, double dmax, const double *b, size_t nb);
+
+/** What one counting pass did. */
+typedef struct bc_shift__tally {
+	size_t n_too_long, n_outside, n_used, n_multi;
+} bc_shift__tally;
+
+/**
+ * Counts `occ` into `nbins` bins (oldest first, not overlapping) under
+ * the span rule. `counts` has nbins * bc_shift__stride(n_zones) doubles
+ * and is zeroed first. When `n_refs`/`n_locs` are not NULL they receive
+ * distinct reference/locality counts per bin (`ref_keys`/`loc_keys` =
+ * the number of interned keys). Returns 0 or BC_ENOMEM.
+ */
+int bc_shift__count(double *counts, size_t *n_refs, size_t *n_locs, bc_shift__tally *tally,
+		    const bc_shift__occ *occ, size_t n, const bc_shift__bin *bins, size_t nbins,
+		    int span_rule, double max_myr, size_t n_zones, size_t ref_keys, size_t loc_keys, bc_err *err);
+
+/**
+ * Reads a bins file (TSV or CSV: name, older bound, younger bound, in Ma;
+ * optional header; '#' lines skipped). Bins come back oldest first; the
+ * caller frees with bc_shift__bins_free.
+ */
+int bc_shift__bins_read(bc_shift__bin **out, size_t *n, const char *path, bc_err *err);
+void bc_shift__bins_free(bc_shift__bin *bins, size_t n);
+
+#endif
