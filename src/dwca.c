@@ -1466,13 +1466,13 @@ static void problem(bc_dwca *a, const char *where, long line, const char *field,
 		return;
 	a->has_problem = 1;
 	snprintf(a->problem_field, sizeof a->problem_field, "%s", field);
-	int n = snprintf(a->problem, sizeof a->problem, "%s:%ld: %s: ", where, line, field);
-	if (n < 0 || (size_t)n >= sizeof a->problem)
-		return;
 	va_list ap;
 	va_start(ap, fmt);
-	vsnprintf(a->problem + n, sizeof a->problem - (size_t)n, fmt, ap);
+	int n = vsnprintf(a->problem, sizeof a->problem, fmt, ap);
 	va_end(ap);
+	/* a problem found in an extension row names that row */
+	if (n >= 0 && (size_t)n < sizeof a->problem && (line != a->line || strcmp(where, bc_dwca__where(a)) != 0))
+		snprintf(a->problem + n, sizeof a->problem - (size_t)n, " (%s:%ld)", where, line);
 }
 
 static int set_val(bc_dwca *a, int col, const char *v)

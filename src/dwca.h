@@ -94,7 +94,9 @@ long bc_dwca__line(const bc_dwca *a);
  * A problem found while joining the current record (an extension value
  * that cannot be converted or contradicts the core), or NULL. `*field`
  * gets the column concerned. Such a record belongs in the quarantine.
- * Its message is "WHERE:LINE: field: what".
+ * The text says what is wrong; when the problem lies in an extension row,
+ * it ends with that row's place "(NAME/file:LINE)". The record's own place
+ * is bc_dwca__where / bc_dwca__line.
  */
 const char *bc_dwca__problem(const bc_dwca *a, const char **field);
 
