@@ -100,6 +100,10 @@ long bc_dwca__line(const bc_dwca *a);
  */
 const char *bc_dwca__problem(const bc_dwca *a, const char **field);
 
+/** Appends to `b` the term IRI a column is written under (Darwin Core,
+ * BC_DWCA_NS for the project's five terms, BC_DWCA_COLUMN_NS for others). */
+int bc_dwca__term_iri(bc_buf *b, const char *col);
+
 /**
  * Writes an archive. `columns` are design.md/extra column names, `rows`
  * hold nrows x ncolumns values (row-major; NULL or "" for empty). `path`
