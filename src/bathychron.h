@@ -267,8 +267,9 @@ const char *bc_age_status_name(bc_age_status status);
 /** One resolved age. older_ma > younger_ma (or equal for a point age). */
 typedef struct bc_age {
 	bc_age_status status;
-	char from[128];        /* chart interval name of the older end ("" for numeric) */
-	char to[128];          /* chart interval name of the younger end */
+	char from[128];        /* chart interval name of the older end; for numeric ages the finest
+	                          chart interval holding that number ("" if none) */
+	char to[128];          /* chart interval name of the younger end (same rule) */
 	double older_ma;
 	double younger_ma;
 	int uncertain;         /* a "?", "cf.", "probably" mark was present */
@@ -279,11 +280,28 @@ typedef struct bc_resolver bc_resolver;
 
 /**
  * A resolver over `chart` (borrowed: it must outlive the resolver) with the
- * shipped alias table (reference/age-aliases.tsv) loaded.
+ * shipped alias table (reference/age-aliases.tsv) loaded. Rules and
+ * conventions: doc/age-resolution.md. A resolver caches its answers, so it
+ * is not safe to share between threads: use one per thread. Free it with
+ * bc_resolver_free().
  */
 int bc_resolver_new(bc_resolver **out, const bc_chart *chart, bc_err *err);
-/** Adds or overrides aliases from a TSV file of the same form as the shipped one. */
+/**
+ * Adds or overrides aliases from a TSV file of the same form as the shipped
+ * one (header row with at least alias, older, younger, source; '#' lines
+ * are comments; a later row for the same alias wins). Every older/younger
+ * name must resolve in the resolver's chart: otherwise BC_EINVALID with
+ * "FILE:LINE: field: what is wrong" and nothing from the file is kept.
+ */
 int bc_resolver_load_aliases(bc_resolver *r, const char *path, bc_err *err);
+/** Number of aliases in use (shipped plus loaded). */
+size_t bc_resolver_alias_count(const bc_resolver *r);
+/**
+ * Number of shipped alias rows skipped because a name they map to is not in
+ * this chart (a chart release that names an interval differently).
+ * `first` (may be NULL) gets the first such alias text, borrowed, or "".
+ */
+size_t bc_resolver_aliases_skipped(const bc_resolver *r, const char **first);
 void bc_resolver_free(bc_resolver *r);
 /** The chart in use. Borrowed. */
 const bc_chart *bc_resolver_chart(const bc_resolver *r);
