@@ -476,22 +476,21 @@ static int read_entry(bc_dwca *a, const char *loc, uint64_t limit, char **out, s
 	return BC_OK;
 }
 
-/* 1 when the archive has the file `loc`. */
+/* 1 when the archive has the file `loc`, 0 when not, BC_ENOMEM. */
 static int has_entry(bc_dwca *a, const char *loc)
 {
-	if (a->zip) {
-		bc_buf full = {0};
-		if (bc__buf_printf(&full, "%s%s", a->prefix, loc))
-			return 0;
-		int r = zip_name_locate(a->zip, full.data, 0) >= 0;
-		bc__buf_free(&full);
-		return r;
-	}
 	bc_buf full = {0};
-	if (bc__buf_printf(&full, "%s/%s", a->root, loc))
-		return 0;
-	struct stat sb;
-	int r = stat(full.data, &sb) == 0 && S_ISREG(sb.st_mode);
+	int r;
+	if (a->zip) {
+		if (bc__buf_printf(&full, "%s%s", a->prefix, loc))
+			return BC_ENOMEM;
+		r = zip_name_locate(a->zip, full.data, 0) >= 0;
+	} else {
+		struct stat sb;
+		if (bc__buf_printf(&full, "%s/%s", a->root, loc))
+			return BC_ENOMEM;
+		r = stat(full.data, &sb) == 0 && S_ISREG(sb.st_mode);
+	}
 	bc__buf_free(&full);
 	return r;
 }
@@ -819,6 +818,12 @@ static int read_part(bc_dwca *a, xmlNode *el, dw_part *p, int core, const char *
 			xmlFree(v);
 			v = NULL;
 			f.col = f.term ? term_column(f.term) : NULL;
+			if (!f.term || !f.col || def_oom) {
+				free(f.term);
+				free(f.col);
+				free(f.def);
+				return oom(err);
+			}
 			if (f.index < 0 && !f.def) {
 				free(f.term);
 				free(f.col);
@@ -826,10 +831,8 @@ static int read_part(bc_dwca *a, xmlNode *el, dw_part *p, int core, const char *
 				goto done;
 			}
 			dw_field *nf = bc__realloc(p->f, (p->nf + 1) * sizeof *nf);
-			if (!nf || !f.term || !f.col || def_oom) {
-				free(nf ? NULL : f.term);
-				if (nf)
-					p->f = nf;
+			if (!nf) {
+				free(f.term);
 				free(f.col);
 				free(f.def);
 				return oom(err);
@@ -1259,8 +1262,9 @@ int bc_dwca__open(bc_dwca **out, const char *path, const char *name, const bc_dw
 			rc = bc_err_set(err, BC_EIO, "%s: %s", a->name, strerror(errno));
 			goto done;
 		}
-		if (!has_entry(a, "meta.xml")) {
-			rc = bc_err_set(err, BC_EINVALID, "%s: not a Darwin Core Archive: the folder has no meta.xml", a->name);
+		int has = has_entry(a, "meta.xml");
+		if (has <= 0) {
+			rc = has < 0 ? oom(err) : bc_err_set(err, BC_EINVALID, "%s: not a Darwin Core Archive: the folder has no meta.xml", a->name);
 			goto done;
 		}
 	} else {
@@ -1323,8 +1327,12 @@ int bc_dwca__open(bc_dwca **out, const char *path, const char *name, const bc_dw
 	}
 	/* metadata: the archive's metadata attribute, else eml.xml if present */
 	char *mattr = attr(root, "metadata");
-	const char *mloc = mattr && *mattr ? mattr : has_entry(a, "eml.xml") ? "eml.xml" : NULL;
-	if (mloc && !path_problem(mloc) && has_entry(a, mloc)) {
+	int has_eml = mattr && *mattr ? 0 : has_entry(a, "eml.xml");
+	const char *mloc = mattr && *mattr ? mattr : has_eml > 0 ? "eml.xml" : NULL;
+	int has_loc = mloc && !path_problem(mloc) ? has_entry(a, mloc) : 0;
+	if (has_eml < 0 || has_loc < 0) {
+		rc = oom(err);
+	} else if (has_loc) {
 		rc = read_entry(a, mloc, a->lim.max_xml, &eml, &eml_len, err);
 		if (!rc) {
 			bc_buf en = {0};

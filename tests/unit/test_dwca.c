@@ -523,3 +523,44 @@ TEST(dwca_write_reads_back)
 		a = NULL;
 	}
 }
+
+/* Every allocation in opening, reading and writing may fail without a
+ * crash or a leak (the sanitizer build checks the leaks). */
+TEST(dwca_out_of_memory)
+{
+	const char *d = make_small();
+	int failures = 0, completed = 0;
+	for (long k = 1; k < 1200; k++) {
+		bc_err err = {0};
+		bc_dwca *a = NULL;
+		bc__alloc_fail_after(k);
+		int rc = bc_dwca__open(&a, d, "small", NULL, &err);
+		if (rc == BC_OK) {
+			while ((rc = bc_dwca__next(a, &err)) == 1)
+				;
+			if (rc == 0)
+				completed++;
+		} else {
+			CHECK(a == NULL);
+		}
+		if (rc < 0) {
+			CHECK_MSG(rc == BC_ENOMEM, "allocation %ld: %d %s", k, rc, err.msg);
+			failures++;
+		}
+		bc__alloc_fail_after(0);
+		bc_dwca__free(a);
+	}
+	CHECK(failures > 0);
+	CHECK(completed > 0);
+	const char *cols[] = {"occurrenceID", "earliestChronometricAge", "notes"};
+	const char *rows[] = {"E1", "70", "x,y"};
+	for (long k = 1; k < 200; k++) {
+		bc_err err = {0};
+		char path[1024];
+		snprintf(path, sizeof path, "%s/w%ld.zip", d, k);
+		bc__alloc_fail_after(k);
+		int rc = bc_dwca__write(path, cols, 3, rows, 1, NULL, &err);
+		bc__alloc_fail_after(0);
+		CHECK_MSG(rc == BC_OK || rc == BC_ENOMEM, "write with allocation %ld failing: %d %s", k, rc, err.msg);
+	}
+}
