@@ -522,6 +522,128 @@ int bc_shift_write_methods(const bc_shift *s, FILE *f, bc_err *err);
 /* == end of shift section == */
 
 /* ------------------------------------------------------------------ */
+/* Depth ranges through time (ranges.c)                                */
+/* ------------------------------------------------------------------ */
+
+/* == ranges section == */
+
+/*
+ * Per taxon, its stratigraphic range in each depth zone: when it was
+ * first and last found shallow and deep, whether the shallow range ends
+ * before, overlaps or outlasts the deep one given the age ranges, and a
+ * confidence interval on each range end from the number of horizons
+ * (Strauss & Sadler 1989; Marshall 1990). doc/ranges.md states every rule.
+ */
+
+/** The taxonomic level whose names are compared. */
+typedef enum bc_ranges_rank {
+	BC_RANGES_GENUS = 0, /* the genus column, else the first word of scientificName */
+	BC_RANGES_FAMILY,
+	BC_RANGES_ORDER,
+	BC_RANGES_SPECIES    /* scientificName as stored */
+} bc_ranges_rank;
+
+/**
+ * Options of bc_ranges_compute. `sel` carries the selection, --timescale
+ * (chart interval names), the zoning and the confidence level exactly as
+ * for shift; its binning fields are not used. Strings are borrowed.
+ */
+typedef struct bc_ranges_options {
+	bc_shift_options sel;
+	bc_ranges_rank rank;
+} bc_ranges_options;
+
+#define BC_RANGES_OPTIONS_INIT { BC_SHIFT_OPTIONS_INIT, BC_RANGES_GENUS }
+
+/** Sets "rank" (genus, family, order, scientificName/species), or any option bc_shift_option_set knows. */
+int bc_ranges_option_set(bc_ranges_options *opts, const char *name, const char *value, bc_err *err);
+
+/**
+ * One taxon's occurrences in one depth zone. The range's older end (first
+ * occurrence) lies between first_younger_ma and first_older_ma: the
+ * largest younger bound and the largest older bound among the zone's
+ * occurrences; its younger end (last occurrence) between last_younger_ma
+ * (smallest younger bound) and last_older_ma (smallest older bound). All
+ * NaN when n is 0.
+ */
+typedef struct bc_range_zone {
+	size_t n;
+	size_t n_references, n_localities;
+	size_t n_horizons;           /* distinct occurrence midpoint ages */
+	double first_older_ma, first_younger_ma;
+	const char *first_interval;  /* chart intervals of those two ages, "Campanian" or "Santonian-Campanian"; "" if none. Borrowed. */
+	double last_older_ma, last_younger_ma;
+	const char *last_interval;
+	double ci_extension;         /* Marshall (1990) r = (1 - C)^(-1/(H-1)) - 1, C = level; NaN when H < 2 */
+	double first_ci_ma;          /* oldest midpoint + r * (observed range of midpoints) */
+	double last_ci_ma;           /* youngest midpoint - r * range, not below 0 */
+} bc_range_zone;
+
+/** How the shallow range's end stands to the deep range (bit set of the possible ones). */
+enum {
+	BC_RANGE_ENDS_BEFORE = 1, /* the last shallow occurrence is older than the first deep one */
+	BC_RANGE_OVERLAPS = 2,    /* it lies within the deep range */
+	BC_RANGE_OUTLASTS = 4     /* it is younger than the last deep one */
+};
+
+typedef struct bc_range_taxon {
+	const char *taxon;           /* borrowed */
+	size_t n;                    /* every counted occurrence of the taxon, straddling included */
+	size_t n_straddle;           /* depth range crossing the first boundary: in no zone */
+	size_t n_references, n_localities;
+	bc_range_zone shallow, deep; /* at the first boundary */
+	const bc_range_zone *zones;  /* with --zones: n_zones + 1 zones, shallowest first; else NULL. Borrowed. */
+	unsigned relation;           /* BC_RANGE_* bits the age ranges allow; 0 unless both shallow and deep occur */
+	int retreat_supported;       /* 1: the shallow range certainly ends first and its end's confidence
+				      * limit is still older than the deep range's last occurrence; 0: it ends
+				      * first but the limit reaches the deep end (or one horizon only);
+				      * -1: does not apply */
+} bc_range_taxon;
+
+typedef struct bc_ranges_summary {
+	size_t n_selected;
+	size_t n_outside_region, n_no_coordinates;
+	size_t n_no_name;            /* no name at the chosen rank */
+	size_t n_no_depth;
+	size_t n_used;
+	size_t n_taxa;
+	size_t n_shallow_only, n_deep_only, n_straddle_only, n_both;
+	size_t n_ends_before, n_overlaps, n_outlasts, n_unresolved; /* taxa with one certain relation, or several possible */
+	size_t n_retreat_supported, n_retreat_weak;
+	char data_sha256[65];        /* doc/ranges.md gives the byte layout */
+} bc_ranges_summary;
+
+typedef struct bc_ranges bc_ranges;
+struct bc_plot_options; /* the plot section's bc_plot_options */
+
+/**
+ * Selects, zones and summarises per taxon. A selection that matches no
+ * occurrence, or leaves none with a palaeodepth and a name at the rank,
+ * fails with BC_EINVALID. The result is the caller's; free it with
+ * bc_ranges_free().
+ */
+int bc_ranges_compute(bc_ranges **out, bc_db *db, const bc_ranges_options *opts, bc_err *err);
+void bc_ranges_free(bc_ranges *r);
+
+/** Taxa in name order (byte order of UTF-8). Borrowed from `r`. */
+size_t bc_ranges_count(const bc_ranges *r);
+const bc_range_taxon *bc_ranges_taxon_at(const bc_ranges *r, size_t i);
+const bc_ranges_summary *bc_ranges_summary_get(const bc_ranges *r);
+
+/** Writes the table with its summary and methods stamp in `format`. */
+int bc_ranges_write(const bc_ranges *r, FILE *f, bc_format format, bc_err *err);
+
+/**
+ * Draws one row per taxon: its shallow and deep ranges over the timescale
+ * bar of the chart used, sorted by the last shallow occurrence (see
+ * bc_plot_ranges; the options are the plot section's bc_plot_options).
+ * `opt->caption` NULL gives a caption in words.
+ */
+int bc_ranges_plot(const char *path, const bc_ranges *r, const struct bc_plot_options *opt, bc_err *err);
+
+/* == end of ranges section == */
+
+/* ------------------------------------------------------------------ */
 /* Figures (plot.c)                                                    */
 /* ------------------------------------------------------------------ */
 
@@ -595,6 +717,51 @@ int bc_plot_shift(const char *path, const bc_plot_bin *bins, size_t n, const bc_
  * from a program that uses fontconfig for nothing else. Safe to call twice.
  */
 void bc_plot_cleanup(void);
+
+/**
+ * The default caption of a shift figure, in words: the selection, the
+ * binning and span rule, the zoning, the chart, how many occurrences were
+ * counted and why others were left out. `opts` are the options `s` was
+ * computed with; `chart_name` names the chart of the timescale bar (NULL:
+ * none). `*out` is the caller's; free it with free().
+ */
+int bc_plot_shift_caption(char **out, const bc_shift *s, const bc_shift_options *opts, const char *chart_name,
+			  bc_err *err);
+
+/**
+ * Draws a computed shift table: its bins one to one (has_frac when a bin
+ * has shallow or deep occurrences; no resampling band yet), the interval
+ * level of `opts`, and, when `opt->caption` is NULL, the caption of
+ * bc_plot_shift_caption(). Otherwise as bc_plot_shift(). Nothing is kept
+ * from the arguments.
+ */
+int bc_plot_shift_table(const char *path, const bc_shift *s, const bc_shift_options *opts, const bc_chart *chart,
+			const bc_plot_options *opt, bc_err *err);
+
+/** One zone's range for bc_plot_ranges. Ages in Ma; NaN (n 0) when the taxon has none there. */
+typedef struct bc_plot_zone_range {
+	double n;
+	double first_older_ma, first_younger_ma; /* the range's older end lies between these */
+	double last_older_ma, last_younger_ma;   /* its younger end lies between these */
+	double last_ci_ma;                       /* confidence limit on the younger end; NaN: none */
+} bc_plot_zone_range;
+
+typedef struct bc_plot_taxon_range {
+	const char *label;                       /* borrowed */
+	bc_plot_zone_range shallow, deep;
+} bc_plot_taxon_range;
+
+/**
+ * Draws one row per taxon, a shallow and a deep bar each: solid where the
+ * taxon certainly lived in the zone, tinted where the age ranges allow,
+ * a tick at the confidence limit on the younger end; counts at the right;
+ * the time axis and the timescale bar below (as in bc_plot_shift). Rows are
+ * sorted by the last shallow occurrence, the earliest-ending on top; taxa
+ * without shallow occurrences follow, by their deep range's end. `opt`
+ * as for bc_plot_shift (level names the confidence limit in the legend).
+ */
+int bc_plot_ranges(const char *path, const bc_plot_taxon_range *taxa, size_t n, const bc_chart *chart,
+		   const bc_plot_options *opt, bc_err *err);
 
 /* == end of plot section == */
 
