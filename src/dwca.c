@@ -114,6 +114,8 @@ struct bc_dwca {
 	char problem_field[256];
 	size_t orphan;    /* next extension row to look at after the core */
 	int core_done;
+	struct seen_id { char *id; long line; } *seen; /* core ids so far (open addressing) */
+	size_t nseen, capseen;
 };
 
 /* ------------------------------------------------------------------ */
@@ -1426,6 +1428,9 @@ void bc_dwca__free(bc_dwca *a)
 	}
 	free(a->rows);
 	free(a->bucket);
+	for (size_t i = 0; i < a->capseen; i++)
+		free(a->seen[i].id);
+	free(a->seen);
 	for (size_t i = 0; i < a->ncols; i++)
 		free(a->cols[i]);
 	free(a->cols);
@@ -1731,6 +1736,41 @@ static int apply_chrono(bc_dwca *a, ext_row *x, bc_buf *json)
 	return rc;
 }
 
+/* Adds a core id; `*first` gets the line of an earlier row with the same
+ * id (0 when new). */
+static int seen_add(bc_dwca *a, const char *id, long line, long *first)
+{
+	*first = 0;
+	if (a->nseen * 2 >= a->capseen) {
+		size_t nc = a->capseen ? a->capseen * 2 : 1024;
+		struct seen_id *ns = bc__calloc(nc, sizeof *ns);
+		if (!ns)
+			return BC_ENOMEM;
+		for (size_t i = 0; i < a->capseen; i++) {
+			if (!a->seen[i].id)
+				continue;
+			size_t k = hash_str(a->seen[i].id) & (nc - 1);
+			while (ns[k].id)
+				k = (k + 1) & (nc - 1);
+			ns[k] = a->seen[i];
+		}
+		free(a->seen);
+		a->seen = ns;
+		a->capseen = nc;
+	}
+	size_t k = hash_str(id) & (a->capseen - 1);
+	for (; a->seen[k].id; k = (k + 1) & (a->capseen - 1))
+		if (strcmp(a->seen[k].id, id) == 0) {
+			*first = a->seen[k].line;
+			return BC_OK;
+		}
+	if (!(a->seen[k].id = bc__strdup(id)))
+		return BC_ENOMEM;
+	a->seen[k].line = line;
+	a->nseen++;
+	return BC_OK;
+}
+
 /* Fills the record from the core row in a->cur and its extension rows. */
 static int join_record(bc_dwca *a, bc_err *err)
 {
@@ -1772,6 +1812,13 @@ static int join_record(bc_dwca *a, bc_err *err)
 		return oom(err);
 	if (!*id || a->nparts < 2)
 		return BC_OK;
+	/* with extensions, a core id must be unique: extension rows could not
+	 * be told apart otherwise */
+	long first = 0;
+	if (seen_add(a, id, r->line, &first))
+		return oom(err);
+	if (first)
+		problem(a, core->where, r->line, "id", "'%s' is also the id of the row on line %ld; extension rows cannot be told apart", id, first);
 	bc_buf *json = bc__calloc(a->nparts, sizeof *json);
 	if (!json)
 		return oom(err);

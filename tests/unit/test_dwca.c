@@ -270,7 +270,7 @@ TEST(dwca_core_conflict_and_width)
 		"<files><location>m.csv</location></files><coreid index=\"0\"/>"
 		"<field index=\"1\" term=\"http://rs.tdwg.org/dwc/terms/measurementType\"/>"
 		"<field index=\"2\" term=\"http://rs.tdwg.org/dwc/terms/measurementValue\"/></extension></archive>");
-	put(d, "o.csv", "id,pres,notes\r\nC1,crown,\"kept,\r\nacross lines\"\r\nC2,calyx,x,surplus\r\n");
+	put(d, "o.csv", "id,pres,notes\r\nC1,crown,\"kept,\r\nacross lines\"\r\nC2,calyx,x,surplus\r\nC1,crown,\r\n");
 	put(d, "m.csv", "C1,preservation,columnal\nC2,preservation,calyx\n");
 	CHECK_OK(bc_dwca__open(&a, d, "w", NULL, &err), &err);
 	const char *field = NULL;
@@ -280,6 +280,9 @@ TEST(dwca_core_conflict_and_width)
 	CHECK_INT(bc_dwca__next(a, &err), 1);
 	CHECK_INT(bc_dwca__line(a), 4);
 	CHECK_STR(bc_dwca__problem(a, &field), "4 fields, but meta.xml and the header describe 3");
+	CHECK_INT(bc_dwca__next(a, &err), 1);
+	CHECK_STR(bc_dwca__problem(a, &field), "'C1' is also the id of the row on line 2; extension rows cannot be told apart");
+	CHECK_STR(field, "id");
 	CHECK_INT(bc_dwca__next(a, &err), 0);
 	bc_dwca__free(a);
 }
