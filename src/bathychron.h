@@ -326,6 +326,103 @@ int bc_age_resolve_pair(bc_resolver *r, const char *earliest, const char *latest
 
 /* == ingest section == */
 
+/**
+ * Age disagreement tolerance: when a row gives both age text and numbers
+ * (earliest/latestChronometricAge), the numbers are stored; if they reach
+ * outside the range the text resolves to by more than this many Myr (at
+ * either end), the row is stored with age_conflict = 1 and `check` reports
+ * it. The same test compares a stage with the series or system also given.
+ */
+#define BC_AGE_CONFLICT_TOLERANCE_MYR 0.5
+
+/** Called once per rejected row with "FILE:LINE: field: reason". */
+typedef void (*bc_import_report_fn)(void *ctx, const char *message);
+/** Called now and then with bytes read so far and the input size (0 if unknown). */
+typedef void (*bc_import_progress_fn)(void *ctx, uint64_t done, uint64_t total);
+
+/** Options of bc_import_file. Initialise with BC_IMPORT_OPTIONS_INIT. */
+typedef struct bc_import_options {
+	const char *map;           /* column map: a shipped name (import/maps/NAME.map) or a file; NULL = none */
+	const char *environments;  /* TSV adding to / overriding reference/environments.tsv; NULL = shipped only */
+	const char *preservation;  /* TSV adding to / overriding reference/preservation.tsv */
+	const char *timescale;     /* stored chart to resolve ages with; NULL = the database's default */
+	const char *display_name;  /* file name used in messages and in the batch; NULL = the path */
+	int dry_run;               /* validate and count, write nothing */
+	int keep_guard_quotes;     /* 1 = keep a leading ' before = + - @ tab CR (see export) */
+	bc_import_report_fn report;
+	bc_import_progress_fn progress;
+	void *ctx;                 /* passed to report and progress */
+} bc_import_options;
+#define BC_IMPORT_OPTIONS_INIT {NULL, NULL, NULL, NULL, NULL, 0, 0, NULL, NULL, NULL}
+
+/** Counts of one import. n_read = n_stored + n_quarantined always. */
+typedef struct bc_import_result {
+	long long batch_id;        /* the import_batches row; 0 for a dry run */
+	long long n_read;          /* data rows read (all-empty rows are not rows) */
+	long long n_stored;
+	long long n_quarantined;
+	long long n_age_conflicts; /* stored rows flagged age_conflict */
+	long long n_unguarded;     /* cells whose export guard quote was removed */
+	char timescale[128];       /* chart used */
+} bc_import_result;
+
+/**
+ * Imports one CSV/TSV occurrence file into `db` as ONE transaction and one
+ * import_batches row. Rows that cannot be used go to the quarantine table
+ * (and to opts->report); they never stop the import. Returns BC_OK when the
+ * file was read (even with quarantined rows; see `out`); BC_EINVALID for a
+ * file that cannot be read as a whole (encoding, empty, bad header, bad
+ * map), with "FILE:LINE: field: what"; BC_EEXISTS when identical content
+ * was imported before (the message names that batch and its date); other
+ * codes for environment failures. Nothing is written unless BC_OK and not
+ * a dry run.
+ */
+int bc_import_file(bc_import_result *out, bc_db *db, const char *path, const bc_import_options *opts, bc_err *err);
+
+/** Counts of a references load. */
+typedef struct bc_refs_result {
+	long long batch_id;
+	long long n_entries, n_new, n_updated, n_bad;
+} bc_refs_result;
+
+/**
+ * Loads a BibTeX file into the references table as one batch. A key seen
+ * before is updated in place (the newest file wins) and counted in
+ * n_updated. Bad entries are skipped, counted in n_bad and passed to
+ * `report` as "FILE:LINE: key: what"; the rest are stored. Identical
+ * content loaded before gives BC_EEXISTS.
+ */
+int bc_refs_load(bc_refs_result *out, bc_db *db, const char *path, bc_import_report_fn report, void *ctx, bc_err *err);
+
+/** What `check` looks at. Initialise with BC_CHECK_OPTIONS_INIT. */
+typedef struct bc_check_options {
+	bc_format format;          /* csv, tsv or json */
+	int quarantine;            /* 1 = write the quarantined rows as CSV instead of the report */
+} bc_check_options;
+#define BC_CHECK_OPTIONS_INIT {BC_FORMAT_TSV, 0}
+
+/**
+ * Writes the data-quality report to `out`: one row per problem with
+ * columns problem, batch, file, line, key, detail. Problems: quarantined
+ * rows, unlinked references, age conflicts, probable duplicate
+ * occurrences, localities given different coordinates; plus one
+ * informational row counting occurrences without coordinates.
+ * `*n_problems` gets the number of problem rows (informational rows not
+ * counted). With opts->quarantine, writes the quarantined rows as CSV:
+ * quarantine_batch, quarantine_file, quarantine_line, quarantine_field,
+ * quarantine_reason, then the row's own columns, ready to fix and import.
+ */
+int bc_check_run(bc_db *db, const bc_check_options *opts, FILE *out, long long *n_problems, bc_err *err);
+
+/**
+ * Writes the stored occurrences as CSV: the design.md input columns, then
+ * the extra columns kept at import. Text cells starting with = + - @ tab or
+ * CR get a leading single quote (spreadsheet formula-injection guard,
+ * OWASP "CSV Injection"); numeric columns are never touched; import removes
+ * exactly that quote again and says how many it removed.
+ */
+int bc_export_csv(bc_db *db, FILE *out, long long *n_rows, bc_err *err);
+
 /* == end of ingest section == */
 
 /* ------------------------------------------------------------------ */
