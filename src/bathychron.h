@@ -426,6 +426,27 @@ int bc_export_csv(bc_db *db, FILE *out, long long *n_rows, bc_err *err);
 /* == end of ingest section == */
 
 /* ------------------------------------------------------------------ */
+/* Darwin Core Archives (dwca.c, dwca_write.c)                         */
+/* ------------------------------------------------------------------ */
+
+/* == dwca section == */
+
+/**
+ * Writes the stored occurrences as a Darwin Core Archive: `path` ending in
+ * ".zip" gives a zip file, any other path a new folder. The archive holds
+ * meta.xml, eml.xml, occurrence.txt (Darwin Core terms; the project's five
+ * terms under https://bathychron.invalid/terms/; extra columns under
+ * https://bathychron.invalid/columns/) and chronometricage.txt (ages in
+ * Ma). Importing it stores the same occurrences (doc/dwca.md). An existing
+ * `path` gives BC_EEXISTS and is not touched. `*n_rows` (may be NULL) gets
+ * the number of occurrences written. (Reading an archive goes through
+ * bc_import_file, which recognises a zip file or a folder with meta.xml.)
+ */
+int bc_export_dwca(bc_db *db, const char *path, long long *n_rows, bc_err *err);
+
+/* == end of dwca section == */
+
+/* ------------------------------------------------------------------ */
 /* Coordinates and localities (geo.c)                                  */
 /* ------------------------------------------------------------------ */
 

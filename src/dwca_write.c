@@ -4,6 +4,7 @@
  * terms under BC_DWCA_NS, and the chronometric ages as a ChronometricAge
  * extension, so that `import` reads it back to the same values.
  */
+#include "db.h"
 #include "dwca.h"
 
 #include <errno.h>
@@ -205,5 +206,147 @@ done:
 	bc__buf_free(&meta);
 	bc__buf_free(&emlb);
 	bc__buf_free(&term);
+	return rc;
+}
+
+/* ------------------------------------------------------------------ */
+/* Export of the stored occurrences.                                   */
+/* ------------------------------------------------------------------ */
+
+/* Cells of the CSV export (RFC 4180, as bc_export_csv writes it), each
+ * NUL-terminated in one buffer. */
+typedef struct csv_table {
+	bc_buf text;
+	size_t *off;
+	size_t n, cap, width;
+} csv_table;
+
+static int table_cell(csv_table *t)
+{
+	if (t->n == t->cap) {
+		size_t nc = t->cap ? t->cap * 2 : 1024;
+		size_t *no = bc__realloc(t->off, nc * sizeof *no);
+		if (!no)
+			return BC_ENOMEM;
+		t->off = no;
+		t->cap = nc;
+	}
+	t->off[t->n++] = t->text.len;
+	return BC_OK;
+}
+
+/* The export's spreadsheet guard (a ' before = + - @ tab CR) protects
+ * spreadsheets, not archives: it is taken off again here, exactly as
+ * import takes it off. */
+static int parse_export(csv_table *t, const char *d, size_t n, bc_err *err)
+{
+	size_t i = 0, row_cells = 0;
+	while (i < n) {
+		if (table_cell(t))
+			return bc_err_set(err, BC_ENOMEM, "out of memory");
+		row_cells++;
+		size_t start = t->text.len;
+		if (d[i] == '"') {
+			i++;
+			while (i < n && !(d[i] == '"' && (i + 1 >= n || d[i + 1] != '"'))) {
+				if (d[i] == '"')
+					i++;
+				if (bc__buf_append(&t->text, &d[i], 1))
+					return bc_err_set(err, BC_ENOMEM, "out of memory");
+				i++;
+			}
+			i++;
+		}
+		while (i < n && d[i] != ',' && d[i] != '\r' && d[i] != '\n') {
+			if (bc__buf_append(&t->text, &d[i], 1))
+				return bc_err_set(err, BC_ENOMEM, "out of memory");
+			i++;
+		}
+		if (bc__buf_append(&t->text, "", 1))
+			return bc_err_set(err, BC_ENOMEM, "out of memory");
+		char *cell = t->text.data + start;
+		if (cell[0] == '\'' && cell[1] && strchr("=+-@\t\r", cell[1]))
+			memmove(cell, cell + 1, strlen(cell));
+		if (i < n && d[i] == ',') {
+			i++;
+			continue;
+		}
+		if (i < n && d[i] == '\r')
+			i++;
+		if (i < n && d[i] == '\n')
+			i++;
+		if (!t->width)
+			t->width = row_cells;
+		else if (row_cells != t->width)
+			return bc_err_set(err, BC_ERROR, "internal: export row with %zu cells, header has %zu", row_cells, t->width);
+		row_cells = 0;
+	}
+	return BC_OK;
+}
+
+int bc_export_dwca(bc_db *db, const char *path, long long *n_rows, bc_err *err)
+{
+	char *mem = NULL, *eml = NULL;
+	size_t len = 0;
+	csv_table t = {0};
+	const char **cells = NULL;
+	sqlite3_stmt *st = NULL;
+	long long n = 0;
+	int rc = BC_OK;
+	struct stat sb;
+	if (stat(path, &sb) == 0)
+		return bc_err_set(err, BC_EEXISTS, "%s: already exists; not overwritten (remove it or choose another name)", path);
+	FILE *fp = open_memstream(&mem, &len);
+	if (!fp)
+		return bc_err_set(err, BC_ENOMEM, "out of memory");
+	rc = bc_export_csv(db, fp, &n, err);
+	if (fclose(fp) != 0 && !rc)
+		rc = bc_err_set(err, BC_ENOMEM, "out of memory");
+	if (rc)
+		goto done;
+	if ((rc = parse_export(&t, mem, len, err)))
+		goto done;
+	/* the EML of the imported archive, when every occurrence came from
+	 * batches that carried the same one */
+	if ((rc = bc_db__prepare(db, &st,
+		     "SELECT DISTINCT b.metadata FROM occurrences o JOIN import_batches b ON b.batch_id = o.batch_id LIMIT 2", err)))
+		goto done;
+	int k = 0, step;
+	while ((step = sqlite3_step(st)) == SQLITE_ROW) {
+		const char *m = (const char *)sqlite3_column_text(st, 0);
+		if (k++ == 0 && m && *m && !(eml = bc__strdup(m))) {
+			rc = bc_err_set(err, BC_ENOMEM, "out of memory");
+			goto done;
+		}
+	}
+	if (step != SQLITE_DONE) {
+		rc = bc_db__error(db, err, "reading import batches");
+		goto done;
+	}
+	if (k != 1) {
+		free(eml);
+		eml = NULL;
+	}
+	if (!t.width) {
+		rc = bc_err_set(err, BC_ERROR, "internal: the CSV export wrote no header");
+		goto done;
+	}
+	cells = bc__calloc(t.n, sizeof *cells);
+	if (!cells) {
+		rc = bc_err_set(err, BC_ENOMEM, "out of memory");
+		goto done;
+	}
+	for (size_t i = 0; i < t.n; i++)
+		cells[i] = t.text.data + t.off[i];
+	rc = bc_dwca__write(path, cells, t.width, cells + t.width, t.n / t.width - 1, eml, err);
+	if (!rc && n_rows)
+		*n_rows = n;
+done:
+	sqlite3_finalize(st);
+	free(mem);
+	free(eml);
+	free(cells);
+	free(t.off);
+	bc__buf_free(&t.text);
 	return rc;
 }
