@@ -126,3 +126,8 @@ hostile dwca_meta_external_entity evil "bathychron: evil/meta.xml:2: DOCTYPE: re
 # a location that leaves the folder
 sed 's|<location>occurrence.txt</location>|<location>../archive/occurrence.txt</location>|' archive/meta.xml >evil/meta.xml
 hostile dwca_location_dotdot evil "bathychron: evil/meta.xml: location '../archive/occurrence.txt': refused: '..' leaves the archive folder"
+
+# A dry run of an archive validates and counts, and writes nothing.
+expect_status 1 dwca_dry_run $BC import --dry-run h.gpkg archive.zip
+contains dwca_dry_run_summary "$T/out" "(dry run: nothing written)"
+[ "$(counts h.gpkg)" = "$before" ] && ok dwca_dry_run_changes_nothing || fail dwca_dry_run_changes_nothing "$(counts h.gpkg)"
