@@ -3,7 +3,7 @@
  * (hardened meta.xml, safe paths, size limits) as records keyed by the
  * design.md column names, extensions joined by coreid; and write one.
  */
-#include "dwca.h"
+#include "dwca_impl.h"
 
 #include <ctype.h>
 #include <errno.h>
@@ -35,94 +35,11 @@ static const char *const own_terms[] = {
 	"depositionalEnvironment", "preservationMode",
 };
 
-enum { PART_CORE, PART_MOF, PART_CHRONO, PART_OTHER };
-
-typedef struct dw_field {
-	long index;  /* column, or -1 for a constant */
-	char *term;  /* full IRI */
-	char *col;   /* record column name */
-	char *def;   /* default value, or NULL */
-	int col_i;   /* index into the record columns (core only) */
-} dw_field;
-
-typedef struct dw_part {
-	int kind;
-	char *row_type;
-	char *location;
-	char *where;      /* "NAME/location" */
-	char delim, quote, eol;
-	long skip;
-	char *encoding;
-	long key_index;   /* <id> or <coreid>, -1 when absent */
-	long meta_line;
-	dw_field *f;
-	size_t nf;
-	char *data;       /* content as UTF-8 */
-	size_t len;
-	char **header;    /* first skipped line, when ignoreHeaderLines >= 1 */
-	size_t nheader;
-	int extra_col;    /* record column holding this extension's JSON rows */
-	size_t pos;       /* reading position (core) */
-	long line;        /* next physical line (core) */
-} dw_part;
-
-typedef struct dw_row {
-	bc_buf text;      /* cells, each NUL-terminated */
-	size_t *off;
-	size_t n, cap;
-	long line;
-} dw_row;
-
-typedef struct ext_row {
-	size_t part;
-	long line;
-	char *text;
-	size_t *off;
-	size_t n;
-	int used;
-	struct ext_row *chain;
-} ext_row;
-
-struct bc_dwca {
-	char *name;
-	bc_dwca_limits lim;
-	zip_t *zip;
-	char *prefix;     /* entry prefix inside a zip ("" or "dir/") */
-	char *root;       /* real path of a folder */
-	uint64_t total;
-	struct sha256_ctx sha;
-	char sha_hex[65];
-	char *metadata;
-	bc_buf layout;
-	dw_part *parts;   /* parts[0] is the core */
-	size_t nparts;
-	char **cols;
-	size_t ncols;
-	size_t core_width; /* cells a core row may have */
-	int id_col;       /* occurrenceID filled from <id>, or -1 */
-	ext_row **rows;   /* every extension row, in file order */
-	size_t nrows;
-	ext_row **bucket;
-	size_t nbucket;
-	/* current record */
-	char **vals;
-	dw_row cur;
-	const char *where;
-	long line;
-	int has_problem;
-	char problem[1024];
-	char problem_field[256];
-	size_t orphan;    /* next extension row to look at after the core */
-	int core_done;
-	struct seen_id { char *id; long line; } *seen; /* core ids so far (open addressing) */
-	size_t nseen, capseen;
-};
-
 /* ------------------------------------------------------------------ */
 /* Small helpers.                                                      */
 /* ------------------------------------------------------------------ */
 
-static int oom(bc_err *err) { return bc_err_set(err, BC_ENOMEM, "out of memory"); }
+int bc_dwca__oom(bc_err *err) { return bc_err_set(err, BC_ENOMEM, "out of memory"); }
 
 static int str_ieq(const char *a, const char *b)
 {
@@ -132,7 +49,7 @@ static int str_ieq(const char *a, const char *b)
 	return *a == *b;
 }
 
-static char *trim_copy(const char *s)
+char *bc_dwca__trim_copy(const char *s)
 {
 	while (*s && isspace((unsigned char)*s))
 		s++;
@@ -144,7 +61,7 @@ static char *trim_copy(const char *s)
 
 /* Lower case, '_' and '-' as spaces, runs of space collapsed, "palaeo" as
  * "paleo": the form measurementType and unit names are compared in. */
-static void norm_key(const char *s, char *out, size_t cap)
+void bc_dwca__norm_key(const char *s, char *out, size_t cap)
 {
 	size_t n = 0;
 	int space = 1;
@@ -168,7 +85,7 @@ static void norm_key(const char *s, char *out, size_t cap)
 }
 
 /* Parses a whole string as a finite number (surrounding blanks allowed). */
-static int parse_number(const char *s, double *out)
+int bc_dwca__parse_number(const char *s, double *out)
 {
 	char *end;
 	while (isspace((unsigned char)*s))
@@ -185,7 +102,7 @@ static int parse_number(const char *s, double *out)
 	return 0;
 }
 
-static void format_number(double v, char *out, size_t cap)
+void bc_dwca__format_number(double v, char *out, size_t cap)
 {
 	snprintf(out, cap, "%.15g", v);
 	if (strcmp(out, "-0") == 0)
@@ -378,7 +295,7 @@ static int read_entry(bc_dwca *a, const char *loc, uint64_t limit, char **out, s
 	if (a->zip) {
 		bc_buf full = {0};
 		if (bc__buf_printf(&full, "%s%s", a->prefix, loc))
-			return oom(err);
+			return bc_dwca__oom(err);
 		zip_int64_t idx = zip_name_locate(a->zip, full.data, 0);
 		bc__buf_free(&full);
 		if (idx < 0)
@@ -410,7 +327,7 @@ static int read_entry(bc_dwca *a, const char *loc, uint64_t limit, char **out, s
 				break;
 			}
 			if (bc__buf_append(&b, block, (size_t)n)) {
-				rc = oom(err);
+				rc = bc_dwca__oom(err);
 				break;
 			}
 		}
@@ -420,7 +337,7 @@ static int read_entry(bc_dwca *a, const char *loc, uint64_t limit, char **out, s
 	} else {
 		bc_buf full = {0};
 		if (bc__buf_printf(&full, "%s/%s", a->root, loc))
-			return oom(err);
+			return bc_dwca__oom(err);
 		char *real = realpath(full.data, NULL);
 		bc__buf_free(&full);
 		if (!real)
@@ -456,7 +373,7 @@ static int read_entry(bc_dwca *a, const char *loc, uint64_t limit, char **out, s
 				break;
 			}
 			if (bc__buf_append(&b, block, n)) {
-				rc = oom(err);
+				rc = bc_dwca__oom(err);
 				break;
 			}
 		}
@@ -465,7 +382,7 @@ static int read_entry(bc_dwca *a, const char *loc, uint64_t limit, char **out, s
 		fclose(fp);
 	}
 	if (!rc && !b.data && bc__buf_append(&b, "", 0))
-		rc = oom(err);
+		rc = bc_dwca__oom(err);
 	if (rc) {
 		bc__buf_free(&b);
 		return rc;
@@ -551,7 +468,7 @@ static int check_zip(bc_dwca *a, bc_err *err)
 		a->prefix = bc__strndup(meta_sub, strlen(meta_sub) - strlen("meta.xml"));
 	else
 		return bc_err_set(err, BC_EINVALID, "%s: not a Darwin Core Archive: no meta.xml at the top of the zip", a->name);
-	return a->prefix ? BC_OK : oom(err);
+	return a->prefix ? BC_OK : bc_dwca__oom(err);
 }
 
 /* ------------------------------------------------------------------ */
@@ -632,7 +549,7 @@ static int xml_parse(xmlDoc **out, const char *file, const char *buf, size_t len
 	xml_state st = {file, err, BC_OK};
 	xmlParserCtxtPtr ctxt = xmlCreateMemoryParserCtxt(buf, (int)len);
 	if (!ctxt)
-		return oom(err);
+		return bc_dwca__oom(err);
 	/* NONET; never NOENT, DTDLOAD, DTDATTR or HUGE, so libxml2's limits stay on. */
 	xmlCtxtUseOptions(ctxt, XML_PARSE_NONET | XML_PARSE_BIG_LINES);
 	ctxt->_private = &st;
@@ -776,7 +693,7 @@ static int read_part(bc_dwca *a, xmlNode *el, dw_part *p, int core, const char *
 	xmlFree(v);
 	v = NULL;
 	if (!p->encoding)
-		return oom(err);
+		return bc_dwca__oom(err);
 	for (xmlNode *c = el->children; c; c = c->next) {
 		long cl = xmlGetLineNo(c);
 		if (is_text_el(c, "files")) {
@@ -786,10 +703,10 @@ static int read_part(bc_dwca *a, xmlNode *el, dw_part *p, int core, const char *
 				if (p->location)
 					return bc_err_set(err, BC_EINVALID, "%s:%ld: location: several data files for one %s are not supported", mname, xmlGetLineNo(l), tag);
 				xmlChar *t = xmlNodeGetContent(l);
-				p->location = t ? trim_copy((const char *)t) : NULL;
+				p->location = t ? bc_dwca__trim_copy((const char *)t) : NULL;
 				xmlFree(t);
 				if (!p->location)
-					return oom(err);
+					return bc_dwca__oom(err);
 			}
 		} else if (is_text_el(c, core ? "id" : "coreid")) {
 			v = attr(c, "index");
@@ -824,7 +741,7 @@ static int read_part(bc_dwca *a, xmlNode *el, dw_part *p, int core, const char *
 				free(f.term);
 				free(f.col);
 				free(f.def);
-				return oom(err);
+				return bc_dwca__oom(err);
 			}
 			if (f.index < 0 && !f.def) {
 				free(f.term);
@@ -837,7 +754,7 @@ static int read_part(bc_dwca *a, xmlNode *el, dw_part *p, int core, const char *
 				free(f.term);
 				free(f.col);
 				free(f.def);
-				return oom(err);
+				return bc_dwca__oom(err);
 			}
 			p->f = nf;
 			for (size_t i = 0; i < p->nf; i++)
@@ -857,7 +774,7 @@ static int read_part(bc_dwca *a, xmlNode *el, dw_part *p, int core, const char *
 		return bc_err_set(err, BC_EINVALID, "%s:%ld: extension: <coreid index=\"...\"/> is required", mname, line);
 	bc_buf w = {0};
 	if (bc__buf_printf(&w, "%s/%s", a->name, p->location))
-		return oom(err);
+		return bc_dwca__oom(err);
 	p->where = w.data;
 done:
 	xmlFree(v);
@@ -895,13 +812,13 @@ static int row_new_cell(dw_row *r)
 	return BC_OK;
 }
 
-static const char *row_cell(const dw_row *r, size_t i)
+const char *bc_dwca__row_cell(const dw_row *r, size_t i)
 {
 	return i < r->n ? r->text.data + r->off[i] : "";
 }
 
 /* Reads the next record of part p from p->pos. 1 = record, 0 = end. */
-static int row_next(dw_part *p, dw_row *r, bc_err *err)
+int bc_dwca__row_next(dw_part *p, dw_row *r, bc_err *err)
 {
 	for (;;) {
 		row_reset(r);
@@ -913,7 +830,7 @@ static int row_next(dw_part *p, dw_row *r, bc_err *err)
 		int end = 0;
 		while (!end) {
 			if (row_new_cell(r))
-				return oom(err);
+				return bc_dwca__oom(err);
 			if (p->quote && i < n && d[i] == p->quote) {
 				i++;
 				for (;;) {
@@ -922,7 +839,7 @@ static int row_next(dw_part *p, dw_row *r, bc_err *err)
 					if (d[i] == p->quote) {
 						if (i + 1 < n && d[i + 1] == p->quote) {
 							if (bc__buf_append(&r->text, &d[i], 1))
-								return oom(err);
+								return bc_dwca__oom(err);
 							i += 2;
 							continue;
 						}
@@ -932,7 +849,7 @@ static int row_next(dw_part *p, dw_row *r, bc_err *err)
 					if (d[i] == p->eol)
 						p->line++;
 					if (bc__buf_append(&r->text, &d[i], 1))
-						return oom(err);
+						return bc_dwca__oom(err);
 					i++;
 				}
 			}
@@ -946,7 +863,7 @@ static int row_next(dw_part *p, dw_row *r, bc_err *err)
 				end = 1;
 			}
 			if (bc__buf_append(&r->text, d + s, len) || bc__buf_append(&r->text, "", 1))
-				return oom(err);
+				return bc_dwca__oom(err);
 			if (i < n) {
 				if (d[i] == p->eol) {
 					p->line++;
@@ -959,7 +876,7 @@ static int row_next(dw_part *p, dw_row *r, bc_err *err)
 		p->pos = i;
 		int blank = 1;
 		for (size_t k = 0; k < r->n && blank; k++)
-			if (row_cell(r, k)[0])
+			if (bc_dwca__row_cell(r, k)[0])
 				blank = 0;
 		if (!blank)
 			return 1;
@@ -979,7 +896,7 @@ static int part_decode(bc_dwca *a, dw_part *p, bc_err *err)
 		char *out = bc__malloc(cap);
 		if (!out) {
 			iconv_close(cd);
-			return oom(err);
+			return bc_dwca__oom(err);
 		}
 		char *in = p->data, *o = out;
 		size_t inl = p->len, outl = cap - 1;
@@ -1008,7 +925,7 @@ static int part_decode(bc_dwca *a, dw_part *p, bc_err *err)
 	/* header lines */
 	dw_row r = {0};
 	for (long k = 0; k < p->skip; k++) {
-		int rc = row_next(p, &r, err);
+		int rc = bc_dwca__row_next(p, &r, err);
 		if (rc < 0) {
 			row_free(&r);
 			return rc;
@@ -1019,13 +936,13 @@ static int part_decode(bc_dwca *a, dw_part *p, bc_err *err)
 			p->header = bc__calloc(r.n, sizeof *p->header);
 			if (!p->header) {
 				row_free(&r);
-				return oom(err);
+				return bc_dwca__oom(err);
 			}
 			p->nheader = r.n;
 			for (size_t i = 0; i < r.n; i++)
-				if (!(p->header[i] = trim_copy(row_cell(&r, i)))) {
+				if (!(p->header[i] = bc_dwca__trim_copy(bc_dwca__row_cell(&r, i)))) {
 					row_free(&r);
-					return oom(err);
+					return bc_dwca__oom(err);
 				}
 		}
 	}
@@ -1051,7 +968,7 @@ static int col_add(bc_dwca *a, const char *name)
 	return (int)a->ncols++;
 }
 
-static int col_find(const bc_dwca *a, const char *name)
+int bc_dwca__col_find(const bc_dwca *a, const char *name)
 {
 	for (size_t i = 0; i < a->ncols; i++)
 		if (strcmp(a->cols[i], name) == 0)
@@ -1078,15 +995,15 @@ static int build_columns(bc_dwca *a, bc_err *err)
 		if (is_implied(f))
 			continue;
 		if ((f->col_i = col_add(a, f->col)) < 0)
-			return oom(err);
+			return bc_dwca__oom(err);
 	}
 	if (core->key_index >= 0 && (size_t)core->key_index + 1 > width)
 		width = (size_t)core->key_index + 1;
 	a->core_width = width;
 	a->id_col = -1;
-	if (core->key_index >= 0 && col_find(a, "occurrenceID") < 0) {
+	if (core->key_index >= 0 && bc_dwca__col_find(a, "occurrenceID") < 0) {
 		if ((a->id_col = col_add(a, "occurrenceID")) < 0)
-			return oom(err);
+			return bc_dwca__oom(err);
 	}
 	for (size_t e = 1; e < a->nparts; e++) {
 		dw_part *p = &a->parts[e];
@@ -1095,21 +1012,21 @@ static int build_columns(bc_dwca *a, bc_err *err)
 			if (col_add(a, "minimumPaleodepthInMeters") < 0 || col_add(a, "maximumPaleodepthInMeters") < 0 ||
 				col_add(a, "depositionalEnvironment") < 0 || col_add(a, "preservationMode") < 0 ||
 				(rc = col_add(a, "measurementOrFact")) < 0)
-				return oom(err);
+				return bc_dwca__oom(err);
 		} else if (p->kind == PART_CHRONO) {
 			if (col_add(a, "earliestChronometricAge") < 0 || col_add(a, "latestChronometricAge") < 0 ||
 				(rc = col_add(a, "chronometricAge")) < 0)
-				return oom(err);
+				return bc_dwca__oom(err);
 		} else {
 			bc_buf b = {0};
 			if (bc__buf_printf(&b, "extension:%s", last_part(p->row_type))) {
 				bc__buf_free(&b);
-				return oom(err);
+				return bc_dwca__oom(err);
 			}
 			rc = col_add(a, b.data);
 			bc__buf_free(&b);
 			if (rc < 0)
-				return oom(err);
+				return bc_dwca__oom(err);
 		}
 		p->extra_col = rc;
 	}
@@ -1121,16 +1038,16 @@ static int build_columns(bc_dwca *a, bc_err *err)
 				mapped = 1;
 		if (mapped || !core->header[i][0])
 			continue;
-		if (col_find(a, core->header[i]) >= 0)
+		if (bc_dwca__col_find(a, core->header[i]) >= 0)
 			continue; /* would shadow a described column; its cells are reported if used */
 		if (col_add(a, core->header[i]) < 0)
-			return oom(err);
+			return bc_dwca__oom(err);
 	}
 	a->vals = bc__calloc(a->ncols, sizeof *a->vals);
-	return a->vals ? BC_OK : oom(err);
+	return a->vals ? BC_OK : bc_dwca__oom(err);
 }
 
-static uint64_t hash_str(const char *s)
+uint64_t bc_dwca__hash(const char *s)
 {
 	uint64_t h = 1469598103934665603ULL;
 	for (; *s; s++)
@@ -1144,12 +1061,12 @@ static int load_extensions(bc_dwca *a, bc_err *err)
 	int rc = BC_OK;
 	for (size_t e = 1; e < a->nparts; e++) {
 		dw_part *p = &a->parts[e];
-		while ((rc = row_next(p, &r, err)) == 1) {
+		while ((rc = bc_dwca__row_next(p, &r, err)) == 1) {
 			ext_row *x = bc__calloc(1, sizeof *x);
 			ext_row **nr = x ? bc__realloc(a->rows, (a->nrows + 1) * sizeof *nr) : NULL;
 			if (!nr) {
 				free(x);
-				rc = oom(err);
+				rc = bc_dwca__oom(err);
 				goto done;
 			}
 			a->rows = nr;
@@ -1160,7 +1077,7 @@ static int load_extensions(bc_dwca *a, bc_err *err)
 			x->text = bc__malloc(r.text.len);
 			x->off = bc__malloc(r.n * sizeof *x->off);
 			if (!x->text || !x->off) {
-				rc = oom(err);
+				rc = bc_dwca__oom(err);
 				goto done;
 			}
 			memcpy(x->text, r.text.data, r.text.len);
@@ -1175,14 +1092,14 @@ static int load_extensions(bc_dwca *a, bc_err *err)
 		a->nbucket *= 2;
 	a->bucket = bc__calloc(a->nbucket, sizeof *a->bucket);
 	if (!a->bucket) {
-		rc = oom(err);
+		rc = bc_dwca__oom(err);
 		goto done;
 	}
 	for (size_t i = a->nrows; i-- > 0;) {
 		ext_row *x = a->rows[i];
 		dw_part *p = &a->parts[x->part];
 		const char *id = (size_t)p->key_index < x->n ? x->text + x->off[p->key_index] : "";
-		size_t b = hash_str(id) & (a->nbucket - 1);
+		size_t b = bc_dwca__hash(id) & (a->nbucket - 1);
 		x->chain = a->bucket[b];
 		a->bucket[b] = x;
 	}
@@ -1246,12 +1163,12 @@ int bc_dwca__open(bc_dwca **out, const char *path, const char *name, const bc_dw
 	bc_buf mname = {0};
 	int rc = BC_OK;
 	if (!a)
-		return oom(err);
+		return bc_dwca__oom(err);
 	bc_dwca_limits def = BC_DWCA_LIMITS_INIT;
 	a->lim = limits ? *limits : def;
 	sha256_init(&a->sha);
 	if (!(a->name = bc__strdup(name ? name : path))) {
-		rc = oom(err);
+		rc = bc_dwca__oom(err);
 		goto done;
 	}
 	struct stat sb;
@@ -1266,7 +1183,7 @@ int bc_dwca__open(bc_dwca **out, const char *path, const char *name, const bc_dw
 		}
 		int has = has_entry(a, "meta.xml");
 		if (has <= 0) {
-			rc = has < 0 ? oom(err) : bc_err_set(err, BC_EINVALID, "%s: not a Darwin Core Archive: the folder has no meta.xml", a->name);
+			rc = has < 0 ? bc_dwca__oom(err) : bc_err_set(err, BC_EINVALID, "%s: not a Darwin Core Archive: the folder has no meta.xml", a->name);
 			goto done;
 		}
 	} else {
@@ -1285,7 +1202,7 @@ int bc_dwca__open(bc_dwca **out, const char *path, const char *name, const bc_dw
 	if ((rc = read_entry(a, "meta.xml", a->lim.max_xml, &meta, &meta_len, err)))
 		goto done;
 	if (bc__buf_printf(&mname, "%s/meta.xml", a->name)) {
-		rc = oom(err);
+		rc = bc_dwca__oom(err);
 		goto done;
 	}
 	if ((rc = xml_parse(&doc, mname.data, meta, meta_len, err)))
@@ -1309,7 +1226,7 @@ int bc_dwca__open(bc_dwca **out, const char *path, const char *name, const bc_dw
 	}
 	a->parts = bc__calloc(1 + next, sizeof *a->parts);
 	if (!a->parts) {
-		rc = oom(err);
+		rc = bc_dwca__oom(err);
 		goto done;
 	}
 	a->nparts = 1 + next;
@@ -1333,14 +1250,14 @@ int bc_dwca__open(bc_dwca **out, const char *path, const char *name, const bc_dw
 	const char *mloc = mattr && *mattr ? mattr : has_eml > 0 ? "eml.xml" : NULL;
 	int has_loc = mloc && !path_problem(mloc) ? has_entry(a, mloc) : 0;
 	if (has_eml < 0 || has_loc < 0) {
-		rc = oom(err);
+		rc = bc_dwca__oom(err);
 	} else if (has_loc) {
 		rc = read_entry(a, mloc, a->lim.max_xml, &eml, &eml_len, err);
 		if (!rc) {
 			bc_buf en = {0};
 			xmlDoc *ed = NULL;
 			if (bc__buf_printf(&en, "%s/%s", a->name, mloc))
-				rc = oom(err);
+				rc = bc_dwca__oom(err);
 			else
 				rc = xml_parse(&ed, en.data, eml, eml_len, err);
 			xmlFreeDoc(ed);
@@ -1355,7 +1272,7 @@ int bc_dwca__open(bc_dwca **out, const char *path, const char *name, const bc_dw
 	a->metadata = eml ? eml : bc__strdup("");
 	eml = NULL;
 	if (!a->metadata) {
-		rc = oom(err);
+		rc = bc_dwca__oom(err);
 		goto done;
 	}
 	sha256_update(&a->sha, meta_len, (const uint8_t *)meta);
@@ -1368,7 +1285,7 @@ int bc_dwca__open(bc_dwca **out, const char *path, const char *name, const bc_dw
 	if ((rc = build_columns(a, err)) || (rc = load_extensions(a, err)))
 		goto done;
 	if (add_layout(a)) {
-		rc = oom(err);
+		rc = bc_dwca__oom(err);
 		goto done;
 	}
 	uint8_t d[SHA256_DIGEST_SIZE];
@@ -1388,7 +1305,7 @@ done:
 	return BC_OK;
 }
 
-static void clear_vals(bc_dwca *a)
+void bc_dwca__clear_vals(bc_dwca *a)
 {
 	for (size_t i = 0; i < a->ncols; i++) {
 		free(a->vals[i]);
@@ -1401,7 +1318,7 @@ void bc_dwca__free(bc_dwca *a)
 	if (!a)
 		return;
 	if (a->vals)
-		clear_vals(a);
+		bc_dwca__clear_vals(a);
 	free(a->vals);
 	for (size_t i = 0; i < a->nparts; i++) {
 		dw_part *p = &a->parts[i];
@@ -1461,450 +1378,4 @@ const char *bc_dwca__problem(const bc_dwca *a, const char **field)
 	if (field)
 		*field = a->problem_field;
 	return a->problem;
-}
-
-/* ------------------------------------------------------------------ */
-/* Records.                                                            */
-/* ------------------------------------------------------------------ */
-
-static void problem(bc_dwca *a, const char *where, long line, const char *field, const char *fmt, ...)
-#if defined(__GNUC__)
-	__attribute__((format(printf, 5, 6)))
-#endif
-	;
-static void problem(bc_dwca *a, const char *where, long line, const char *field, const char *fmt, ...)
-{
-	if (a->has_problem)
-		return;
-	a->has_problem = 1;
-	snprintf(a->problem_field, sizeof a->problem_field, "%s", field);
-	va_list ap;
-	va_start(ap, fmt);
-	int n = vsnprintf(a->problem, sizeof a->problem, fmt, ap);
-	va_end(ap);
-	/* a problem found in an extension row names that row */
-	if (n >= 0 && (size_t)n < sizeof a->problem && (line != a->line || strcmp(where, bc_dwca__where(a)) != 0))
-		snprintf(a->problem + n, sizeof a->problem - (size_t)n, " (%s:%ld)", where, line);
-}
-
-static int set_val(bc_dwca *a, int col, const char *v)
-{
-	char *c = bc__strdup(v);
-	if (!c)
-		return BC_ENOMEM;
-	free(a->vals[col]);
-	a->vals[col] = c;
-	return BC_OK;
-}
-
-/* Value of the extension field whose column is `col` in row x ("" if none). */
-static const char *ext_value(const bc_dwca *a, const ext_row *x, const char *col)
-{
-	const dw_part *p = &a->parts[x->part];
-	for (size_t i = 0; i < p->nf; i++) {
-		if (strcmp(p->f[i].col, col) != 0)
-			continue;
-		const char *v = p->f[i].index >= 0 && (size_t)p->f[i].index < x->n ? x->text + x->off[p->f[i].index] : "";
-		return *v ? v : p->f[i].def ? p->f[i].def : "";
-	}
-	return "";
-}
-
-/* Puts an extension-derived value into a column; a different value already
- * there is a problem, not an overwrite. */
-static int merge_val(bc_dwca *a, const ext_row *x, const char *col, const char *v)
-{
-	int i = col_find(a, col);
-	if (i < 0 || !*v)
-		return BC_OK;
-	const char *have = a->vals[i];
-	if (!have || !*have)
-		return set_val(a, i, v);
-	double h, n;
-	if (strcmp(have, v) == 0 || (parse_number(have, &h) == 0 && parse_number(v, &n) == 0 && fabs(h - n) <= 1e-9 * fmax(1.0, fabs(h))))
-		return BC_OK;
-	problem(a, a->parts[x->part].where, x->line, col, "'%s' here disagrees with '%s' given for the same occurrence", v, have);
-	return BC_OK;
-}
-
-/* Appends row x as a JSON object to the text in `b` (an array being built). */
-static int ext_json(const bc_dwca *a, const ext_row *x, bc_buf *b)
-{
-	const dw_part *p = &a->parts[x->part];
-	int rc = bc__buf_puts(b, b->len ? "," : "[");
-	rc |= bc__buf_puts(b, "{");
-	int first = 1;
-	for (size_t i = 0; i < p->nf; i++) {
-		const char *v = ext_value(a, x, p->f[i].col);
-		if (!*v)
-			continue;
-		rc |= bc__buf_puts(b, first ? "" : ",");
-		rc |= bc__buf_json_string(b, p->f[i].col);
-		rc |= bc__buf_puts(b, ":");
-		rc |= bc__buf_json_string(b, v);
-		first = 0;
-	}
-	for (size_t c = 0; c < x->n; c++) {
-		int mapped = (long)c == p->key_index;
-		for (size_t i = 0; i < p->nf && !mapped; i++)
-			mapped = p->f[i].index == (long)c;
-		const char *v = x->text + x->off[c];
-		if (mapped || !*v)
-			continue;
-		char key[64];
-		if (c < p->nheader && p->header[c][0])
-			rc |= bc__buf_puts(b, first ? "" : ","), rc |= bc__buf_json_string(b, p->header[c]);
-		else
-			snprintf(key, sizeof key, "column_%zu", c + 1), rc |= bc__buf_puts(b, first ? "" : ","), rc |= bc__buf_json_string(b, key);
-		rc |= bc__buf_puts(b, ":");
-		rc |= bc__buf_json_string(b, v);
-		first = 0;
-	}
-	rc |= bc__buf_puts(b, "}");
-	return rc ? BC_ENOMEM : BC_OK;
-}
-
-/* measurementType values that fill the project's columns (docs/dwca.md). */
-enum { MOF_NONE, MOF_MIN, MOF_MAX, MOF_BOTH, MOF_ENV, MOF_PRES };
-static const struct { const char *type; int what; } mof_types[] = {
-	{"minimum paleodepth", MOF_MIN}, {"min paleodepth", MOF_MIN}, {"minimumpaleodepthinmeters", MOF_MIN},
-	{"minimum paleodepth in meters", MOF_MIN}, {"minimum paleodepth in metres", MOF_MIN},
-	{"maximum paleodepth", MOF_MAX}, {"max paleodepth", MOF_MAX}, {"maximumpaleodepthinmeters", MOF_MAX},
-	{"maximum paleodepth in meters", MOF_MAX}, {"maximum paleodepth in metres", MOF_MAX},
-	{"paleodepth", MOF_BOTH}, {"paleo depth", MOF_BOTH}, {"paleowater depth", MOF_BOTH},
-	{"paleobathymetry", MOF_BOTH},
-	{"depositional environment", MOF_ENV}, {"depositionalenvironment", MOF_ENV},
-	{"preservation mode", MOF_PRES}, {"preservationmode", MOF_PRES}, {"preservation", MOF_PRES},
-};
-
-/* Length units for palaeodepths, in metres. Foot: international foot,
- * exactly 0.3048 m; fathom: 6 ft = 1.8288 m (NIST Handbook 44, App. C). */
-static const struct { const char *unit; double m; } depth_units[] = {
-	{"", 1.0}, {"m", 1.0}, {"metre", 1.0}, {"metres", 1.0}, {"meter", 1.0}, {"meters", 1.0},
-	{"ft", 0.3048}, {"foot", 0.3048}, {"feet", 0.3048},
-	{"fathom", 1.8288}, {"fathoms", 1.8288}, {"fm", 1.8288}, {"ftm", 1.8288},
-};
-
-/* Reference systems of chronometric ages, in Ma. "BP" counts from 1950;
- * the 76 years to the present are far below any geological resolution. */
-static const struct { const char *rs; double ma; } age_units[] = {
-	{"ma", 1.0}, {"mya", 1.0}, {"myr", 1.0}, {"my", 1.0}, {"ma bp", 1.0}, {"million years", 1.0},
-	{"ka", 1e-3}, {"kya", 1e-3}, {"kyr", 1e-3}, {"ka bp", 1e-3}, {"thousand years", 1e-3},
-	{"bp", 1e-6}, {"years bp", 1e-6}, {"yr bp", 1e-6}, {"ybp", 1e-6}, {"cal bp", 1e-6},
-	{"years", 1e-6}, {"yr", 1e-6}, {"a", 1e-6}, {"a bp", 1e-6},
-};
-
-static int depth_value(bc_dwca *a, const ext_row *x, const char *v, const char *unit, double *lo, double *hi)
-{
-	const char *where = a->parts[x->part].where;
-	char u[64];
-	norm_key(unit, u, sizeof u);
-	double f = -1;
-	for (size_t i = 0; i < sizeof depth_units / sizeof depth_units[0]; i++)
-		if (strcmp(u, depth_units[i].unit) == 0)
-			f = depth_units[i].m;
-	if (f < 0) {
-		problem(a, where, x->line, "measurementUnit", "unit '%s' of a palaeodepth is not known (m, ft or fathom)", unit);
-		return -1;
-	}
-	if (parse_number(v, lo) == 0) {
-		*hi = *lo;
-	} else {
-		/* a range "A-B" or "A–B" */
-		char *t = trim_copy(v);
-		char *dash = NULL;
-		if (t)
-			for (char *s = t + 1; *s && !dash; s++)
-				if (*s == '-' || (strncmp(s, "\xE2\x80\x93", 3) == 0))
-					dash = s;
-		int ok = 0;
-		if (dash) {
-			size_t dl = *dash == '-' ? 1 : 3;
-			char *second = dash + dl;
-			*dash = '\0';
-			ok = parse_number(t, lo) == 0 && parse_number(second, hi) == 0;
-		}
-		free(t);
-		if (!ok) {
-			problem(a, where, x->line, "measurementValue", "palaeodepth '%s' is not a number or a range A-B", v);
-			return -1;
-		}
-	}
-	*lo *= f;
-	*hi *= f;
-	return 0;
-}
-
-static int apply_mof(bc_dwca *a, ext_row *x, bc_buf *json)
-{
-	char t[128];
-	norm_key(ext_value(a, x, "measurementType"), t, sizeof t);
-	int what = MOF_NONE;
-	for (size_t i = 0; i < sizeof mof_types / sizeof mof_types[0]; i++)
-		if (strcmp(t, mof_types[i].type) == 0)
-			what = mof_types[i].what;
-	const char *v = ext_value(a, x, "measurementValue");
-	/* rows we do not map, and mapped rows carrying more than type, value
-	 * and unit (remarks, method, who), are kept whole as JSON */
-	int more = 0;
-	const dw_part *p = &a->parts[x->part];
-	for (size_t i = 0; i < p->nf; i++) {
-		const char *c = p->f[i].col;
-		if (strcmp(c, "measurementType") && strcmp(c, "measurementValue") && strcmp(c, "measurementUnit") &&
-			*ext_value(a, x, c))
-			more = 1;
-	}
-	if (what == MOF_NONE || more)
-		if (ext_json(a, x, json))
-			return BC_ENOMEM;
-	if (what == MOF_NONE || !*v)
-		return BC_OK;
-	if (what == MOF_ENV)
-		return merge_val(a, x, "depositionalEnvironment", v);
-	if (what == MOF_PRES)
-		return merge_val(a, x, "preservationMode", v);
-	double lo, hi;
-	if (depth_value(a, x, v, ext_value(a, x, "measurementUnit"), &lo, &hi) != 0)
-		return BC_OK;
-	char n1[64], n2[64];
-	format_number(lo, n1, sizeof n1);
-	format_number(hi, n2, sizeof n2);
-	int rc = BC_OK;
-	if (what == MOF_MIN || what == MOF_BOTH)
-		rc = merge_val(a, x, "minimumPaleodepthInMeters", n1);
-	if (!rc && (what == MOF_MAX || what == MOF_BOTH))
-		rc = merge_val(a, x, "maximumPaleodepthInMeters", what == MOF_MAX ? n1 : n2);
-	return rc;
-}
-
-static int chrono_end(bc_dwca *a, ext_row *x, const char *col, const char *rs_col)
-{
-	const char *v = ext_value(a, x, col);
-	if (!*v)
-		return BC_OK;
-	const char *where = a->parts[x->part].where;
-	double num;
-	if (parse_number(v, &num) != 0) {
-		problem(a, where, x->line, col, "'%s' is not a number", v);
-		return BC_OK;
-	}
-	const char *rs = ext_value(a, x, rs_col);
-	char k[64];
-	norm_key(rs, k, sizeof k);
-	double f = -1;
-	for (size_t i = 0; i < sizeof age_units / sizeof age_units[0]; i++)
-		if (strcmp(k, age_units[i].rs) == 0)
-			f = age_units[i].ma;
-	if (f < 0) {
-		if (!*k)
-			problem(a, where, x->line, rs_col, "missing: say in which units the age is given (Ma, ka or years BP)");
-		else
-			problem(a, where, x->line, rs_col, "'%s' is not a reference system this tool converts (Ma, ka, years BP)", rs);
-		return BC_OK;
-	}
-	char out[64];
-	if (f == 1.0) {
-		char *t = trim_copy(v);
-		if (!t)
-			return BC_ENOMEM;
-		int rc = merge_val(a, x, col, t);
-		free(t);
-		return rc;
-	}
-	format_number(num * f, out, sizeof out);
-	return merge_val(a, x, col, out);
-}
-
-static int apply_chrono(bc_dwca *a, ext_row *x, bc_buf *json)
-{
-	static const char *const used[] = {"earliestChronometricAge", "earliestChronometricAgeReferenceSystem",
-		"latestChronometricAge", "latestChronometricAgeReferenceSystem"};
-	const dw_part *p = &a->parts[x->part];
-	int more = !*ext_value(a, x, used[0]) && !*ext_value(a, x, used[2]);
-	for (size_t i = 0; i < p->nf; i++) {
-		int u = 0;
-		for (size_t k = 0; k < 4; k++)
-			u |= strcmp(p->f[i].col, used[k]) == 0;
-		if (!u && *ext_value(a, x, p->f[i].col))
-			more = 1;
-	}
-	if (more && ext_json(a, x, json))
-		return BC_ENOMEM;
-	int rc = chrono_end(a, x, used[0], used[1]);
-	if (!rc)
-		rc = chrono_end(a, x, used[2], used[3]);
-	return rc;
-}
-
-/* Adds a core id; `*first` gets the line of an earlier row with the same
- * id (0 when new). */
-static int seen_add(bc_dwca *a, const char *id, long line, long *first)
-{
-	*first = 0;
-	if (a->nseen * 2 >= a->capseen) {
-		size_t nc = a->capseen ? a->capseen * 2 : 1024;
-		struct seen_id *ns = bc__calloc(nc, sizeof *ns);
-		if (!ns)
-			return BC_ENOMEM;
-		for (size_t i = 0; i < a->capseen; i++) {
-			if (!a->seen[i].id)
-				continue;
-			size_t k = hash_str(a->seen[i].id) & (nc - 1);
-			while (ns[k].id)
-				k = (k + 1) & (nc - 1);
-			ns[k] = a->seen[i];
-		}
-		free(a->seen);
-		a->seen = ns;
-		a->capseen = nc;
-	}
-	size_t k = hash_str(id) & (a->capseen - 1);
-	for (; a->seen[k].id; k = (k + 1) & (a->capseen - 1))
-		if (strcmp(a->seen[k].id, id) == 0) {
-			*first = a->seen[k].line;
-			return BC_OK;
-		}
-	if (!(a->seen[k].id = bc__strdup(id)))
-		return BC_ENOMEM;
-	a->seen[k].line = line;
-	a->nseen++;
-	return BC_OK;
-}
-
-/* Fills the record from the core row in a->cur and its extension rows. */
-static int join_record(bc_dwca *a, bc_err *err)
-{
-	dw_part *core = &a->parts[0];
-	dw_row *r = &a->cur;
-	int rc = BC_OK;
-	for (size_t i = 0; i < core->nf; i++) {
-		dw_field *f = &core->f[i];
-		if (f->col_i < 0)
-			continue;
-		const char *v = f->index >= 0 ? row_cell(r, (size_t)f->index) : "";
-		if (!*v && f->def)
-			v = f->def;
-		if (*v && set_val(a, f->col_i, v))
-			return oom(err);
-	}
-	for (size_t i = 0; i < core->nheader && i < r->n; i++) {
-		int mapped = (long)i == core->key_index;
-		for (size_t k = 0; k < core->nf && !mapped; k++)
-			mapped = core->f[k].index == (long)i;
-		if (mapped || !*row_cell(r, i))
-			continue;
-		int c = core->header[i][0] ? col_find(a, core->header[i]) : -1;
-		int described = 0;
-		for (size_t k = 0; k < core->nf && c >= 0; k++)
-			described |= core->f[k].col_i == c;
-		if (c < 0 || described) {
-			problem(a, core->where, r->line, core->header[i][0] ? core->header[i] : "row",
-				"column %zu has a value but meta.xml does not describe it", i + 1);
-			continue;
-		}
-		if (set_val(a, c, row_cell(r, i)))
-			return oom(err);
-	}
-	if (r->n > a->core_width)
-		problem(a, core->where, r->line, "row", "%zu fields, but meta.xml and the header describe %zu", r->n, a->core_width);
-	const char *id = core->key_index >= 0 ? row_cell(r, (size_t)core->key_index) : "";
-	if (a->id_col >= 0 && *id && set_val(a, a->id_col, id))
-		return oom(err);
-	if (!*id || a->nparts < 2)
-		return BC_OK;
-	/* with extensions, a core id must be unique: extension rows could not
-	 * be told apart otherwise */
-	long first = 0;
-	if (seen_add(a, id, r->line, &first))
-		return oom(err);
-	if (first)
-		problem(a, core->where, r->line, "id", "'%s' is also the id of the row on line %ld; extension rows cannot be told apart", id, first);
-	bc_buf *json = bc__calloc(a->nparts, sizeof *json);
-	if (!json)
-		return oom(err);
-	/* chain order is file order (built back to front) */
-	for (ext_row *x = a->bucket[hash_str(id) & (a->nbucket - 1)]; x && !rc; x = x->chain) {
-		dw_part *p = &a->parts[x->part];
-		const char *xid = (size_t)p->key_index < x->n ? x->text + x->off[p->key_index] : "";
-		if (strcmp(xid, id) != 0)
-			continue;
-		x->used = 1;
-		if (p->kind == PART_MOF)
-			rc = apply_mof(a, x, &json[x->part]);
-		else if (p->kind == PART_CHRONO)
-			rc = apply_chrono(a, x, &json[x->part]);
-		else
-			rc = ext_json(a, x, &json[x->part]);
-	}
-	for (size_t e = 1; e < a->nparts && !rc; e++) {
-		if (!json[e].len)
-			continue;
-		if (bc__buf_puts(&json[e], "]")) {
-			rc = BC_ENOMEM;
-			break;
-		}
-		int c = a->parts[e].extra_col;
-		const char *have = a->vals[c];
-		if (have && *have) {
-			/* several extensions of one kind: concatenate the arrays */
-			bc_buf m = {0};
-			rc = bc__buf_append(&m, have, strlen(have) - 1) || bc__buf_puts(&m, ",") ||
-				bc__buf_puts(&m, json[e].data + 1) ? BC_ENOMEM : BC_OK;
-			if (!rc) {
-				free(a->vals[c]);
-				a->vals[c] = m.data;
-			} else
-				bc__buf_free(&m);
-		} else {
-			rc = set_val(a, c, json[e].data);
-		}
-	}
-	for (size_t e = 0; e < a->nparts; e++)
-		bc__buf_free(&json[e]);
-	free(json);
-	return rc ? oom(err) : BC_OK;
-}
-
-int bc_dwca__next(bc_dwca *a, bc_err *err)
-{
-	clear_vals(a);
-	a->has_problem = 0;
-	a->problem[0] = a->problem_field[0] = '\0';
-	if (!a->core_done) {
-		dw_part *core = &a->parts[0];
-		int rc = row_next(core, &a->cur, err);
-		if (rc < 0)
-			return rc;
-		if (rc == 1) {
-			a->where = core->where;
-			a->line = a->cur.line;
-			rc = join_record(a, err);
-			return rc ? rc : 1;
-		}
-		a->core_done = 1;
-	}
-	/* extension rows that joined nothing: never dropped, each a record
-	 * with its row as JSON and a problem */
-	while (a->orphan < a->nrows) {
-		ext_row *x = a->rows[a->orphan++];
-		if (x->used)
-			continue;
-		dw_part *p = &a->parts[x->part];
-		bc_buf json = {0};
-		if (ext_json(a, x, &json) || bc__buf_puts(&json, "]")) {
-			bc__buf_free(&json);
-			return oom(err);
-		}
-		free(a->vals[p->extra_col]);
-		a->vals[p->extra_col] = json.data;
-		a->where = p->where;
-		a->line = x->line;
-		const char *xid = (size_t)p->key_index < x->n ? x->text + x->off[p->key_index] : "";
-		if (*xid)
-			problem(a, p->where, x->line, "coreid", "'%s' matches no row of %s", xid, a->parts[0].location);
-		else
-			problem(a, p->where, x->line, "coreid", "empty: this row belongs to no occurrence");
-		return 1;
-	}
-	return 0;
 }
