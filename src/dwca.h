@@ -1,7 +1,8 @@
 /*
  * dwca.h - Darwin Core Archives (private): read an archive (zip file or
  * unpacked folder) as a stream of records keyed by design.md column names,
- * and write one. Only dwca.c (and skos.c) include libxml2.
+ * and write one (dwca_write.c). Only dwca.c (and skos.c) include libxml2;
+ * dwca_join.c joins the extensions.
  *
  * Reading. bc_dwca__open validates the whole archive before the first
  * record is returned, so a refused archive changes nothing:
