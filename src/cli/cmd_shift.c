@@ -8,7 +8,7 @@
 #include <string.h>
 
 static const char help[] =
-	"usage: bathychron shift DB [selection] [binning] [zoning] [--format F] [-o FILE] [--methods]\n"
+	"usage: bathychron shift DB [selection] [binning] [zoning] [uncertainty] [--format F] [-o FILE] [--methods]\n"
 	"\n"
 	"Per stratigraphic bin, oldest first: how many selected occurrences were\n"
 	"shallow, deep or straddling the depth boundary, the deep share with a\n"
@@ -38,7 +38,32 @@ static const char help[] =
 	"  --split METRES       one boundary (default 200, the conventional shelf edge)\n"
 	"  --zones A,B,...      several boundaries; adds n_zone1.. columns; the fixed\n"
 	"                       columns use the first boundary\n"
+	"Uncertainty and bias (each adds columns, tests and stamp lines; doc/shift.md):\n"
+	"  --draws N            N resampling draws: each occurrence gets an age uniform within\n"
+	"                       its range (so a bin) and, when its depth range straddles the\n"
+	"                       split, a depth uniform within it (so a zone); per bin the median\n"
+	"                       frac_deep and its 2.5/97.5 % quantiles (at --level 0.95), and how\n"
+	"                       often each boundary is the breakpoint. N also sets the replicates\n"
+	"                       of --weight-references and --quota (default 1000)\n"
+	"  --seed S             seed of every random stream (default 1); same seed, same output\n"
+	"                       on any machine and any number of threads\n"
+	"  --threads T          worker threads (default: one per processor); never changes results\n"
+	"  --resample WHAT      age,depth (default), age, depth, or none (bootstrap alone)\n"
+	"  --bootstrap          each draw also resamples the occurrences with replacement, so\n"
+	"                       the band includes sampling error (without it: age/depth only)\n"
+	"  --weight-references  each reference in a bin weighs 1 (a prolific monograph cannot\n"
+	"                       make a shift); interval by bootstrap over references\n"
+	"  --background V       depth affinity against all occurrences of the same bins (the\n"
+	"                       sampled background): binned (expected share weighted by the\n"
+	"                       selection's bins) or pooled; one-sided binomial tests\n"
+	"  --background-with-focal  keep the selection in the background (default: removed)\n"
+	"  --quota N            subsample each bin to N shallow or deep occurrences, repeated;\n"
+	"                       median and quantiles of frac_deep (bins with fewer: NA)\n"
+	"  --taphonomy          repeat on articulated material alone; flag a shift carried by\n"
+	"                       disarticulated material (possibly transported ossicles)\n"
 	"Output:\n"
+	"  --table T            bins (default) or taphonomy (the sensitivity table; needs\n"
+	"                       --taphonomy)\n"
 	"  --level L            confidence level of every interval (default 0.95)\n"
 	"  --format F           csv (default), tsv, md, latex, json\n"
 	"  -o FILE              write to FILE instead of standard output\n"
@@ -54,14 +79,17 @@ static const char help[] =
 /* Options that take a value and go straight to the library. */
 static const char *const lib_opts[] = {
 	"group", "taxon", "preservation", "region", "timescale", "bins", "span", "split", "zones", "level",
+	"draws", "seed", "threads", "resample", "background", "quota",
 };
+/* Flags without a value, passed to the library as "yes". */
+static const char *const lib_flags[] = {"bootstrap", "weight-references", "background-with-focal", "taphonomy"};
 
 int cmd_shift(int argc, char **argv)
 {
 	bc_shift_options opts = BC_SHIFT_OPTIONS_INIT;
 	bc_format format = BC_FORMAT_CSV;
 	const char *db_path = NULL, *out_path = NULL;
-	int methods = 0, have_split = 0, have_zones = 0;
+	int methods = 0, have_split = 0, have_zones = 0, taph_table = 0;
 	bc_err err = {0};
 	for (int i = 1; i < argc; i++) {
 		const char *a = argv[i];
@@ -71,6 +99,14 @@ int cmd_shift(int argc, char **argv)
 		}
 		if (strcmp(a, "--methods") == 0) {
 			methods = 1;
+			continue;
+		}
+		int flag = 0;
+		for (size_t k = 0; k < sizeof lib_flags / sizeof lib_flags[0]; k++)
+			flag |= strncmp(a, "--", 2) == 0 && strcmp(a + 2, lib_flags[k]) == 0;
+		if (flag) {
+			if (bc_shift_option_set(&opts, a + 2, "yes", &err) != BC_OK)
+				return cli_usage("shift", "%s", err.msg);
 			continue;
 		}
 		if (a[0] != '-') {
@@ -90,7 +126,7 @@ int cmd_shift(int argc, char **argv)
 			value = eq + 1;
 		}
 		int known = strcmp(name, "format") == 0 || strcmp(name, "o") == 0 || strcmp(name, "output") == 0 ||
-			    strcmp(name, "draws") == 0 || strcmp(name, "seed") == 0;
+			    strcmp(name, "table") == 0;
 		for (size_t k = 0; k < sizeof lib_opts / sizeof lib_opts[0]; k++)
 			known |= strcmp(name, lib_opts[k]) == 0;
 		if (!known)
@@ -105,8 +141,13 @@ int cmd_shift(int argc, char **argv)
 				return cli_usage("shift", "--format: '%s' is not csv, tsv, md, latex or json", value);
 		} else if (strcmp(name, "o") == 0 || strcmp(name, "output") == 0) {
 			out_path = value;
-		} else if (strcmp(name, "draws") == 0 || strcmp(name, "seed") == 0) {
-			return cli_usage("shift", "--%s: resampling draws are not available in this build yet", name);
+		} else if (strcmp(name, "table") == 0) {
+			if (strcmp(value, "bins") == 0)
+				taph_table = 0;
+			else if (strcmp(value, "taphonomy") == 0)
+				taph_table = 1;
+			else
+				return cli_usage("shift", "--table: '%s' is not bins or taphonomy", value);
 		} else {
 			have_split |= strcmp(name, "split") == 0;
 			have_zones |= strcmp(name, "zones") == 0;
@@ -118,6 +159,10 @@ int cmd_shift(int argc, char **argv)
 		return cli_usage("shift", "expected a database file");
 	if (have_split && have_zones)
 		return cli_usage("shift", "--split and --zones exclude each other (--zones A,B uses A as the split)");
+	if (taph_table && !opts.taphonomy)
+		return cli_usage("shift", "--table taphonomy needs --taphonomy");
+	if (taph_table && methods)
+		return cli_usage("shift", "--table taphonomy and --methods exclude each other (the methods paragraph covers both)");
 	bc_db *db = NULL;
 	bc_shift *s = NULL;
 	int status = CLI_OK;
@@ -133,7 +178,9 @@ int cmd_shift(int argc, char **argv)
 		status = CLI_ENV;
 		goto done;
 	}
-	int rc = methods ? bc_shift_write_methods(s, f, &err) : bc_shift_write(s, f, format, &err);
+	int rc = methods ? bc_shift_write_methods(s, f, &err)
+		 : taph_table ? bc_shift_write_taphonomy(s, f, format, &err)
+			      : bc_shift_write(s, f, format, &err);
 	if (rc != BC_OK)
 		status = cli_fail(&err);
 	if (f != stdout && fclose(f) != 0 && status == CLI_OK) {

@@ -1,0 +1,1328 @@
+/*
+ * resample.c - the shift table under uncertainty and bias: age/depth
+ * resampling draws (threaded, per-draw random streams), reference
+ * weighting, depth affinity against the sampled background, subsampling to
+ * a quota, and taphonomic sensitivity. Binning, zoning and counting are
+ * shift.c's (bc_shift__place, bc_shift__zone, bc_shift__count, and
+ * bc_shift_compute for the background and the articulated subset); every
+ * rule is stated in doc/shift.md, "Uncertainty and bias".
+ */
+#include "resample.h"
+
+#include "db.h"
+#include "stats.h"
+
+#include <errno.h>
+#include <math.h>
+#include <pthread.h>
+#include <stdlib.h>
+#include <string.h>
+#include <strings.h>
+#include <unistd.h>
+
+#define MAX_THREADS 64
+#define MAX_DRAWS 10000000u
+
+enum { STREAM_DRAWS = 1, STREAM_REFS = 2, STREAM_QUOTA = 3 };
+
+struct bc_resample {
+	int has_draws;
+	bc_draw_result dr;
+	size_t n_pop, n_age_drawn, n_depth_drawn; /* draw population and how many get a drawn age / depth */
+	size_t replicates;          /* reference bootstrap and quota */
+	int has_refw;
+	size_t n_units;
+	int has_bg;
+	size_t bg_selected;         /* occurrences in the background computation */
+	int has_quota;
+	int has_taph;
+	bc_shift *art, *dis;        /* articulated-only and disarticulated-only tables; NULL when empty */
+	char art_note[1100], dis_note[1100];
+};
+
+static int oom(bc_err *err) { return bc_err_set(err, BC_ENOMEM, "out of memory"); }
+
+/* ------------------------------------------------------------------ */
+/* Random numbers                                                       */
+/* ------------------------------------------------------------------ */
+
+/* splitmix64's output function (Steele, Lea & Flood 2014). */
+static uint64_t mix64(uint64_t z)
+{
+	z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ULL;
+	z = (z ^ (z >> 27)) * 0x94d049bb133111ebULL;
+	return z ^ (z >> 31);
+}
+
+#define GOLDEN 0x9e3779b97f4a7c15ULL
+
+void bc_resample__rng_init(bc_rng *r, uint64_t seed, uint64_t stream, uint64_t index)
+{
+	/* A key from (seed, stream, index), then four splitmix64 outputs from
+	 * it as the xoshiro256** state (the seeding Blackman & Vigna advise). */
+	uint64_t key = mix64(seed + GOLDEN * (stream + 1));
+	key = mix64(key ^ (index + 1) * GOLDEN);
+	uint64_t x = key;
+	for (int i = 0; i < 4; i++) {
+		x += GOLDEN;
+		r->s[i] = mix64(x);
+	}
+	if (!(r->s[0] | r->s[1] | r->s[2] | r->s[3]))
+		r->s[0] = 1; /* the one forbidden state */
+}
+
+static uint64_t rotl(uint64_t x, int k) { return (x << k) | (x >> (64 - k)); }
+
+uint64_t bc_resample__next(bc_rng *r)
+{
+	uint64_t *s = r->s;
+	uint64_t out = rotl(s[1] * 5, 7) * 9;
+	uint64_t t = s[1] << 17;
+	s[2] ^= s[0];
+	s[3] ^= s[1];
+	s[1] ^= s[2];
+	s[0] ^= s[3];
+	s[2] ^= t;
+	s[3] = rotl(s[3], 45);
+	return out;
+}
+
+double bc_resample__uniform(bc_rng *r) { return (double)(bc_resample__next(r) >> 11) * 0x1.0p-53; }
+
+uint64_t bc_resample__below(bc_rng *r, uint64_t n)
+{
+	/* Reject the lowest (2^64 mod n) values so every residue is equally likely. */
+	uint64_t threshold = (0 - n) % n;
+	for (;;) {
+		uint64_t x = bc_resample__next(r);
+		if (x >= threshold)
+			return x % n;
+	}
+}
+
+double bc_resample__quantile(const double *x, size_t n, double q)
+{
+	if (n == 0)
+		return NAN;
+	double h = (double)(n - 1) * q;
+	size_t lo = (size_t)floor(h);
+	if (lo + 1 >= n)
+		return x[n - 1];
+	return x[lo] + (h - (double)lo) * (x[lo + 1] - x[lo]);
+}
+
+static int cmp_double(const void *a, const void *b)
+{
+	double x = *(const double *)a, y = *(const double *)b;
+	return (x > y) - (x < y);
+}
+
+/* Quantiles (1-level)/2, 0.5, (1+level)/2 of the finite values among
+ * v[0], v[stride], ... (n of them); `tmp` holds n doubles. Returns the
+ * share of finite values. */
+static double summarise(const double *v, size_t n, size_t stride, double level, double *tmp, double *lo, double *mid, double *hi)
+{
+	size_t m = 0;
+	for (size_t i = 0; i < n; i++)
+		if (isfinite(v[i * stride]))
+			tmp[m++] = v[i * stride];
+	qsort(tmp, m, sizeof *tmp, cmp_double);
+	*lo = bc_resample__quantile(tmp, m, (1 - level) / 2);
+	*mid = bc_resample__quantile(tmp, m, 0.5);
+	*hi = bc_resample__quantile(tmp, m, (1 + level) / 2);
+	return n ? (double)m / (double)n : NAN;
+}
+
+/* ------------------------------------------------------------------ */
+/* The draw engine                                                      */
+/* ------------------------------------------------------------------ */
+
+/* One occurrence as the draws see it. bin >= 0: fixed (its age range lies
+ * in one bin, or ages are not resampled); -1: drawn. zone 0/1: fixed
+ * shallow/deep; 2: straddling and not resampled (never in frac_deep);
+ * -1: drawn. */
+typedef struct item {
+	double older, younger, dmin, dmax;
+	int32_t bin;
+	int8_t zone;
+} item;
+
+typedef struct engine {
+	const bc_draw_spec *sp;
+	double split;
+	item *it;
+	size_t ne, nu;      /* items; the first nu need a drawn age or depth */
+	double *base;       /* nbins x 2: counts of the fixed items */
+	bc_draw_result *out;
+} engine;
+
+typedef struct worker {
+	engine *e;
+	size_t first, step;
+	int rc;
+	pthread_t tid;
+	int started;
+} worker;
+
+static void draw_item(const engine *e, const item *it, bc_rng *r, double *cnt)
+{
+	const bc_draw_spec *sp = e->sp;
+	size_t b = it->bin >= 0 ? (size_t)it->bin : sp->nbins;
+	if (it->bin < 0) {
+		double t = it->younger + bc_resample__uniform(r) * (it->older - it->younger);
+		b = bc_shift__place(sp->bins, sp->nbins, t, t, NULL, NULL, NULL);
+		if (b == sp->nbins)
+			return; /* fell in a gap between bins or outside them */
+	}
+	int z = it->zone;
+	if (z < 0) {
+		double d = it->dmin + bc_resample__uniform(r) * (it->dmax - it->dmin);
+		z = bc_shift__zone(d, d, &e->split, 1); /* a point depth never straddles */
+	}
+	if (z == 0 || z == 1)
+		cnt[2 * b + (size_t)z] += 1;
+}
+
+/* Per-draw statistics, computed exactly as shift.c's across-bin tests. */
+static void draw_stats(const engine *e, size_t d, const double *cnt, double *sv, double *nv, double *xv, size_t *idx)
+{
+	const bc_draw_spec *sp = e->sp;
+	bc_draw_result *o = e->out;
+	double *frac = &o->frac[d * sp->nbins];
+	size_t k = 0;
+	double stot = 0, ntot = 0;
+	for (size_t b = 0; b < sp->nbins; b++) {
+		double m = cnt[2 * b] + cnt[2 * b + 1];
+		frac[b] = m > 0 ? cnt[2 * b + 1] / m : NAN;
+		if (!(m > 0))
+			continue;
+		sv[k] = cnt[2 * b + 1];
+		nv[k] = m;
+		xv[k] = -(sp->bins[b].older + sp->bins[b].younger) / 2;
+		idx[k++] = b;
+		stot += sv[k - 1];
+		ntot += m;
+	}
+	o->brk[d] = -1;
+	o->trend_z[d] = o->trend_p[d] = NAN;
+	if (k < 2 || !(stot > 0) || !(stot < ntot))
+		return;
+	bc_trend tr;
+	if (bc_stats__trend(sv, nv, xv, k, &tr) == 0 && isfinite(tr.z)) {
+		o->trend_z[d] = tr.z;
+		o->trend_p[d] = tr.p;
+	}
+	size_t at = 0;
+	double lr;
+	if (bc_stats__breakpoint(sv, nv, k, &at, &lr) == 0 && at >= 1 && at < k)
+		o->brk[d] = (int32_t)idx[at];
+}
+
+static void *work(void *arg)
+{
+	worker *w = arg;
+	const engine *e = w->e;
+	const bc_draw_spec *sp = e->sp;
+	size_t nb = sp->nbins;
+	double *cnt = bc__malloc(2 * nb * sizeof *cnt);
+	double *sv = bc__malloc(nb * sizeof *sv), *nv = bc__malloc(nb * sizeof *nv), *xv = bc__malloc(nb * sizeof *xv);
+	size_t *idx = bc__malloc(nb * sizeof *idx);
+	if (!cnt || !sv || !nv || !xv || !idx) {
+		w->rc = BC_ENOMEM;
+		goto done;
+	}
+	for (size_t d = w->first; d < sp->draws; d += w->step) {
+		bc_rng r;
+		bc_resample__rng_init(&r, sp->seed, STREAM_DRAWS, d);
+		if (!sp->bootstrap) {
+			memcpy(cnt, e->base, 2 * nb * sizeof *cnt);
+			for (size_t j = 0; j < e->nu; j++)
+				draw_item(e, &e->it[j], &r, cnt);
+		} else {
+			memset(cnt, 0, 2 * nb * sizeof *cnt);
+			for (size_t i = 0; i < e->ne; i++)
+				draw_item(e, &e->it[bc_resample__below(&r, e->ne)], &r, cnt);
+		}
+		draw_stats(e, d, cnt, sv, nv, xv, idx);
+	}
+done:
+	free(cnt);
+	free(sv);
+	free(nv);
+	free(xv);
+	free(idx);
+	return NULL;
+}
+
+void bc_resample__draws_free(bc_draw_result *r)
+{
+	if (!r)
+		return;
+	free(r->frac);
+	free(r->brk);
+	free(r->trend_z);
+	free(r->trend_p);
+	memset(r, 0, sizeof *r);
+}
+
+static int online_processors(void)
+{
+	long n = sysconf(_SC_NPROCESSORS_ONLN);
+	return n < 1 ? 1 : n > MAX_THREADS ? MAX_THREADS : (int)n;
+}
+
+int bc_resample__draws(bc_draw_result *out, const bc_draw_spec *sp, double split, bc_err *err)
+{
+	engine e = {sp, split, NULL, 0, 0, NULL, out};
+	worker *w = NULL;
+	int rc = BC_OK;
+	memset(out, 0, sizeof *out);
+	out->draws = sp->draws;
+	out->nbins = sp->nbins;
+	size_t nd = sp->draws, nb = sp->nbins;
+	out->frac = bc__malloc((nd * nb > 0 ? nd * nb : 1) * sizeof *out->frac);
+	out->brk = bc__malloc((nd ? nd : 1) * sizeof *out->brk);
+	out->trend_z = bc__malloc((nd ? nd : 1) * sizeof *out->trend_z);
+	out->trend_p = bc__malloc((nd ? nd : 1) * sizeof *out->trend_p);
+	e.it = bc__malloc((sp->n ? sp->n : 1) * sizeof *e.it);
+	e.base = bc__calloc(2 * nb + 1, sizeof *e.base);
+	if (!out->frac || !out->brk || !out->trend_z || !out->trend_p || !e.it || !e.base) {
+		rc = oom(err);
+		goto done;
+	}
+	/* Two passes: items needing a drawn age or depth first, fixed ones after. */
+	for (int pass = 0; pass < 2; pass++) {
+		for (size_t i = 0; i < sp->n; i++) {
+			const bc_shift__occ *o = &sp->occ[i];
+			if (sp->span_rule == BC_SPAN_MAX && o->older - o->younger > sp->span_max_myr)
+				continue;
+			size_t major = bc_shift__place(sp->bins, sp->nbins, o->older, o->younger, NULL, NULL, NULL);
+			if (major == nb)
+				continue; /* overlaps no bin: never counted */
+			item it = {o->older, o->younger, o->dmin, o->dmax, (int32_t)major, 0};
+			if ((sp->what & BC_RESAMPLE_AGE) && o->older > o->younger) {
+				/* fixed when [younger, older) lies inside one bin */
+				size_t k = bc_shift__place(sp->bins, nb, o->younger, o->younger, NULL, NULL, NULL);
+				it.bin = k < nb && sp->bins[k].older >= o->older ? (int32_t)k : -1;
+			}
+			if (o->zone2 == BC_SHIFT__STRADDLE)
+				it.zone = (sp->what & BC_RESAMPLE_DEPTH) ? -1 : 2;
+			else
+				it.zone = (int8_t)o->zone2;
+			int drawn = it.bin < 0 || it.zone < 0;
+			if (pass == 0 && drawn) {
+				e.it[e.nu++] = it;
+			} else if (pass == 1 && !drawn) {
+				e.it[e.ne++] = it;
+				if (it.zone == 0 || it.zone == 1)
+					e.base[2 * (size_t)it.bin + (size_t)it.zone] += 1;
+			}
+		}
+		if (pass == 0)
+			e.ne = e.nu;
+	}
+	int nt = sp->threads > 0 ? sp->threads : online_processors();
+	if (nt > MAX_THREADS)
+		nt = MAX_THREADS;
+	if ((size_t)nt > nd)
+		nt = nd ? (int)nd : 1;
+	w = bc__calloc((size_t)nt, sizeof *w);
+	if (!w) {
+		rc = oom(err);
+		goto done;
+	}
+	for (int t = 0; t < nt; t++)
+		w[t] = (worker){&e, (size_t)t, (size_t)nt, BC_OK, 0, 0};
+	/* Thread t runs draws t, t + nt, ...; every draw writes only its own
+	 * slots, so the results do not depend on scheduling. A thread that
+	 * cannot be started has its share run here. */
+	for (int t = 1; t < nt; t++)
+		w[t].started = pthread_create(&w[t].tid, NULL, work, &w[t]) == 0;
+	work(&w[0]);
+	for (int t = 1; t < nt; t++) {
+		if (w[t].started)
+			pthread_join(w[t].tid, NULL);
+		else
+			work(&w[t]);
+	}
+	out->threads_used = nt;
+	for (int t = 0; t < nt; t++)
+		if (w[t].rc)
+			rc = oom(err);
+done:
+	free(w);
+	free(e.it);
+	free(e.base);
+	if (rc)
+		bc_resample__draws_free(out);
+	return rc;
+}
+
+/* ------------------------------------------------------------------ */
+/* Depth affinity                                                       */
+/* ------------------------------------------------------------------ */
+
+void bc_resample__affinity(bc_affinity *out, const double *k, const double *n, const double *K, const double *N,
+			   size_t nb, int pooled, double alpha)
+{
+	double sk = 0, sn = 0, sK = 0, sN = 0, w = 0;
+	for (size_t b = 0; b < nb; b++) {
+		double kb = round(k[b]), nbv = round(n[b]), Kb = round(K[b]), Nb = round(N[b]);
+		if (!(nbv > 0) || !(Nb > 0))
+			continue;
+		sk += kb;
+		sn += nbv;
+		sK += Kb;
+		sN += Nb;
+		w += nbv * (Kb / Nb);
+	}
+	out->k = sk;
+	out->n = sn;
+	out->p0 = out->expected = out->p_deep = out->p_shallow = NAN;
+	out->verdict = "none";
+	if (!(sn > 0))
+		return;
+	out->p0 = pooled ? sK / sN : w / sn;
+	out->expected = sn * out->p0;
+	out->p_deep = bc_stats__binom_sf((long)sk, (long)sn, out->p0);
+	out->p_shallow = bc_stats__binom_cdf((long)sk, (long)sn, out->p0);
+	if (out->p_deep <= alpha)
+		out->verdict = "deep";
+	else if (out->p_shallow <= alpha)
+		out->verdict = "shallow";
+}
+
+/* ------------------------------------------------------------------ */
+/* Options                                                              */
+/* ------------------------------------------------------------------ */
+
+static int parse_count(const char *s, unsigned long long max, unsigned long long *out)
+{
+	char *end;
+	if (!*s || *s == '-' || *s == '+' || *s == ' ')
+		return -1;
+	errno = 0;
+	unsigned long long v = strtoull(s, &end, 10);
+	if (*end || errno || v > max)
+		return -1;
+	*out = v;
+	return 0;
+}
+
+static int parse_flag(const char *v)
+{
+	if (!strcmp(v, "1") || !strcasecmp(v, "yes") || !strcasecmp(v, "true") || !strcasecmp(v, "on"))
+		return 1;
+	if (!strcmp(v, "0") || !strcasecmp(v, "no") || !strcasecmp(v, "false") || !strcasecmp(v, "off"))
+		return 0;
+	return -1;
+}
+
+int bc_resample__option_set(bc_shift_options *o, const char *name, const char *value, bc_err *err)
+{
+	unsigned long long v;
+	if (!strcmp(name, "draws")) {
+		if (parse_count(value, MAX_DRAWS, &v) || v == 0)
+			return bc_err_set(err, BC_EUSAGE, "--draws: '%s' is not a number of draws from 1 to %u", value, MAX_DRAWS);
+		o->draws = (size_t)v;
+		return BC_OK;
+	}
+	if (!strcmp(name, "seed")) {
+		if (parse_count(value, UINT64_MAX, &v))
+			return bc_err_set(err, BC_EUSAGE, "--seed: '%s' is not a whole number from 0 to 18446744073709551615", value);
+		o->seed = (uint64_t)v;
+		return BC_OK;
+	}
+	if (!strcmp(name, "threads")) {
+		if (parse_count(value, MAX_THREADS, &v))
+			return bc_err_set(err, BC_EUSAGE, "--threads: '%s' is not a number of threads from 0 (one per processor) to %d", value, MAX_THREADS);
+		o->threads = (int)v;
+		return BC_OK;
+	}
+	if (!strcmp(name, "resample")) {
+		unsigned what = 0;
+		if (!strcmp(value, "none"))
+			what = 0;
+		else if (!strcmp(value, "age"))
+			what = BC_RESAMPLE_AGE;
+		else if (!strcmp(value, "depth"))
+			what = BC_RESAMPLE_DEPTH;
+		else if (!strcmp(value, "age,depth") || !strcmp(value, "depth,age"))
+			what = BC_RESAMPLE_AGE | BC_RESAMPLE_DEPTH;
+		else
+			return bc_err_set(err, BC_EUSAGE, "--resample: '%s' is not age,depth, age, depth or none", value);
+		o->resample = what;
+		return BC_OK;
+	}
+	if (!strcmp(name, "background")) {
+		if (!strcmp(value, "binned"))
+			o->background = BC_BACKGROUND_BINNED;
+		else if (!strcmp(value, "pooled"))
+			o->background = BC_BACKGROUND_POOLED;
+		else if (!strcmp(value, "none"))
+			o->background = BC_BACKGROUND_NONE;
+		else
+			return bc_err_set(err, BC_EUSAGE, "--background: '%s' is not binned or pooled", value);
+		return BC_OK;
+	}
+	if (!strcmp(name, "quota")) {
+		if (parse_count(value, 100000000ULL, &v) || v == 0)
+			return bc_err_set(err, BC_EUSAGE, "--quota: '%s' is not a positive number of occurrences", value);
+		o->quota = (size_t)v;
+		return BC_OK;
+	}
+	static const char *const flags[] = {"bootstrap", "weight-references", "background-with-focal", "taphonomy"};
+	for (size_t i = 0; i < sizeof flags / sizeof flags[0]; i++) {
+		if (strcmp(name, flags[i]) != 0)
+			continue;
+		int f = parse_flag(value);
+		if (f < 0)
+			return bc_err_set(err, BC_EUSAGE, "--%s: '%s' is not yes or no", name, value);
+		if (i == 0)
+			o->bootstrap = f;
+		else if (i == 1)
+			o->weight_references = f;
+		else if (i == 2)
+			o->background_with_focal = f;
+		else
+			o->taphonomy = f;
+		return BC_OK;
+	}
+	return 1;
+}
+
+int bc_resample__wanted(const bc_shift_options *o)
+{
+	return o->draws || o->weight_references || o->background || o->quota || o->taphonomy;
+}
+
+int bc_resample__check(const bc_shift_options *o, bc_err *err)
+{
+	if (o->bootstrap && !o->draws)
+		return bc_err_set(err, BC_EUSAGE, "--bootstrap: needs --draws N (the number of bootstrap draws)");
+	if (o->background_with_focal && !o->background)
+		return bc_err_set(err, BC_EUSAGE, "--background-with-focal: needs --background binned or --background pooled");
+	if (o->taphonomy && o->preservation)
+		return bc_err_set(err, BC_EUSAGE, "--taphonomy compares articulated material with all preservation; it cannot be combined with --preservation");
+	if (o->draws > MAX_DRAWS)
+		return bc_err_set(err, BC_EUSAGE, "--draws: at most %u", MAX_DRAWS);
+	if (o->resample & ~(unsigned)(BC_RESAMPLE_AGE | BC_RESAMPLE_DEPTH))
+		return bc_err_set(err, BC_EUSAGE, "--resample: unknown flags");
+	return BC_OK;
+}
+
+/* ------------------------------------------------------------------ */
+/* The parts                                                            */
+/* ------------------------------------------------------------------ */
+
+static size_t replicates(const bc_shift_options *o) { return o->draws ? o->draws : BC_SHIFT_DEFAULT_REPLICATES; }
+
+static int run_draws(bc_shift *s, bc_err *err)
+{
+	struct bc_resample *rs = s->rs;
+	const bc_shift_options *o = &s->opts;
+	bc_draw_spec sp = {s->occ, s->nocc, s->bins, s->nbins, (int)o->span, o->span_max_myr, o->resample, o->bootstrap,
+		o->draws, o->seed, o->threads};
+	int rc = bc_resample__draws(&rs->dr, &sp, o->zones[0], err);
+	if (rc)
+		return rc;
+	rs->has_draws = 1;
+	/* population counts for the stamp (same rules as the engine) */
+	for (size_t i = 0; i < s->nocc; i++) {
+		const bc_shift__occ *x = &s->occ[i];
+		if (o->span == BC_SPAN_MAX && x->older - x->younger > o->span_max_myr)
+			continue;
+		if (bc_shift__place(s->bins, s->nbins, x->older, x->younger, NULL, NULL, NULL) == s->nbins)
+			continue;
+		rs->n_pop++;
+		if (o->resample & BC_RESAMPLE_AGE && x->older > x->younger) {
+			size_t k = bc_shift__place(s->bins, s->nbins, x->younger, x->younger, NULL, NULL, NULL);
+			if (!(k < s->nbins && s->bins[k].older >= x->older))
+				rs->n_age_drawn++;
+		}
+		if (o->resample & BC_RESAMPLE_DEPTH && x->zone2 == BC_SHIFT__STRADDLE)
+			rs->n_depth_drawn++;
+	}
+	size_t nd = o->draws, nb = s->nbins;
+	double *tmp = bc__malloc((nd ? nd : 1) * sizeof *tmp);
+	size_t *hist = bc__calloc(nb + 1, sizeof *hist);
+	if (!tmp || !hist) {
+		free(tmp);
+		free(hist);
+		return oom(err);
+	}
+	for (size_t b = 0; b < nb; b++) {
+		bc_shift_bin *x = &s->out[b];
+		x->has_draws = 1;
+		x->draw_defined = summarise(&rs->dr.frac[b], nd, nb, o->level, tmp, &x->draw_lo, &x->draw_mid, &x->draw_hi);
+	}
+	for (size_t d = 0; d < nd; d++)
+		if (rs->dr.brk[d] >= 0)
+			hist[rs->dr.brk[d]]++;
+	size_t mode = nb;
+	for (size_t b = 0; b < nb; b++) {
+		s->out[b].draw_break_share = (double)hist[b] / (double)nd;
+		if (hist[b] && (mode == nb || hist[b] > hist[mode]))
+			mode = b; /* ties: the older boundary */
+	}
+	bc_shift_tests *t = &s->tests;
+	t->n_draws = nd;
+	summarise(rs->dr.trend_z, nd, 1, o->level, tmp, &t->draw_trend_z_lo, &t->draw_trend_z_mid, &t->draw_trend_z_hi);
+	size_t sig = 0;
+	for (size_t d = 0; d < nd; d++)
+		sig += rs->dr.trend_p[d] < 1 - o->level;
+	t->draw_trend_sig_share = (double)sig / (double)nd;
+	if (mode < nb && mode > 0) {
+		t->draw_break_mode_share = (double)hist[mode] / (double)nd;
+		t->draw_break_after = s->out[mode].name;
+		/* the older neighbour with data in that draw may lie further back;
+		 * name the bin just before the boundary */
+		t->draw_break_before = s->out[mode - 1].name;
+	}
+	free(tmp);
+	free(hist);
+	return BC_OK;
+}
+
+/* Reference weighting: in each bin every reference present (and one unit
+ * for all occurrences without a reference) weighs 1, shared equally by its
+ * shallow and deep occurrences there; so the weighted share is the mean of
+ * the units' own deep shares. Interval: bootstrap over units (all bins at
+ * once, so the dependence between bins through shared references stays). */
+typedef struct refentry {
+	uint32_t unit, bin;
+	double share;
+} refentry;
+
+static int run_refw(bc_shift *s, bc_err *err)
+{
+	struct bc_resample *rs = s->rs;
+	const bc_shift_options *o = &s->opts;
+	size_t nb = s->nbins, U = s->nref + 1, stride = bc_shift__stride(0), nrep = replicates(o);
+	size_t *off = bc__calloc(U + 1, sizeof *off);
+	bc_shift__occ *g = bc__malloc((s->nocc ? s->nocc : 1) * sizeof *g);
+	double *cnt = bc__malloc(nb * stride * sizeof *cnt);
+	refentry *ent = NULL;
+	size_t nent = 0, cap = 0;
+	double *num = bc__calloc(nb, sizeof *num), *den = bc__calloc(nb, sizeof *den);
+	double *rep = NULL, *tmp = NULL;
+	uint32_t *mult = bc__calloc(U, sizeof *mult);
+	int rc = BC_OK;
+	if (!off || !g || !cnt || !num || !den || !mult) {
+		rc = oom(err);
+		goto done;
+	}
+	/* group the occurrences by unit (counting sort, stable) */
+	for (size_t i = 0; i < s->nocc; i++)
+		off[(s->occ[i].ref >= 0 ? (size_t)s->occ[i].ref : s->nref) + 1]++;
+	for (size_t u = 0; u < U; u++)
+		off[u + 1] += off[u];
+	{
+		size_t *pos = bc__malloc(U * sizeof *pos);
+		if (!pos) {
+			rc = oom(err);
+			goto done;
+		}
+		memcpy(pos, off, U * sizeof *pos);
+		for (size_t i = 0; i < s->nocc; i++)
+			g[pos[s->occ[i].ref >= 0 ? (size_t)s->occ[i].ref : s->nref]++] = s->occ[i];
+		free(pos);
+	}
+	/* each unit's counts per bin, by shift's own counting and span rule */
+	for (size_t u = 0; u < U; u++) {
+		if (off[u + 1] == off[u])
+			continue;
+		bc_shift__tally tally;
+		rc = bc_shift__count(cnt, NULL, NULL, &tally, g + off[u], off[u + 1] - off[u], s->bins, nb, (int)o->span,
+			o->span_max_myr, 0, 0, 0, err);
+		if (rc)
+			goto done;
+		int any = 0;
+		for (size_t b = 0; b < nb; b++) {
+			double sh = cnt[b * stride + BC_SHIFT__C_SHALLOW], dp = cnt[b * stride + BC_SHIFT__C_DEEP];
+			if (!(sh + dp > 0))
+				continue;
+			if (nent == cap) {
+				size_t nc = cap ? 2 * cap : 1024;
+				refentry *p = bc__realloc(ent, nc * sizeof *p);
+				if (!p) {
+					rc = oom(err);
+					goto done;
+				}
+				ent = p;
+				cap = nc;
+			}
+			ent[nent++] = (refentry){(uint32_t)u, (uint32_t)b, dp / (sh + dp)};
+			any = 1;
+		}
+		rs->n_units += (size_t)any;
+	}
+	for (size_t e = 0; e < nent; e++) {
+		num[ent[e].bin] += ent[e].share;
+		den[ent[e].bin] += 1;
+	}
+	for (size_t b = 0; b < nb; b++) {
+		s->out[b].n_ref_units = den[b];
+		s->out[b].refw_frac_deep = den[b] > 0 ? num[b] / den[b] : NAN;
+	}
+	rep = bc__malloc(nrep * nb * sizeof *rep);
+	tmp = bc__malloc(nrep * sizeof *tmp);
+	if (!rep || !tmp) {
+		rc = oom(err);
+		goto done;
+	}
+	/* the units that occur at all are resampled; empty units never weigh */
+	size_t *live = bc__malloc((U ? U : 1) * sizeof *live), nlive = 0;
+	if (!live) {
+		rc = oom(err);
+		goto done;
+	}
+	for (size_t u = 0; u < U; u++)
+		if (off[u + 1] > off[u])
+			live[nlive++] = u;
+	for (size_t r = 0; r < nrep; r++) {
+		bc_rng g2;
+		bc_resample__rng_init(&g2, o->seed, STREAM_REFS, r);
+		memset(mult, 0, U * sizeof *mult);
+		for (size_t i = 0; i < nlive; i++)
+			mult[live[bc_resample__below(&g2, nlive)]]++;
+		memset(num, 0, nb * sizeof *num);
+		memset(den, 0, nb * sizeof *den);
+		for (size_t e = 0; e < nent; e++) {
+			double c = mult[ent[e].unit];
+			num[ent[e].bin] += c * ent[e].share;
+			den[ent[e].bin] += c;
+		}
+		for (size_t b = 0; b < nb; b++)
+			rep[r * nb + b] = den[b] > 0 ? num[b] / den[b] : NAN;
+	}
+	free(live);
+	for (size_t b = 0; b < nb; b++) {
+		double mid;
+		summarise(&rep[b], nrep, nb, o->level, tmp, &s->out[b].refw_lo, &mid, &s->out[b].refw_hi);
+	}
+	rs->has_refw = 1;
+	rs->replicates = nrep;
+done:
+	free(off);
+	free(g);
+	free(cnt);
+	free(ent);
+	free(num);
+	free(den);
+	free(rep);
+	free(tmp);
+	free(mult);
+	return rc;
+}
+
+/* Subsampling: `quota` of a bin's shallow + deep occurrences (rounded
+ * counts) drawn without replacement, `nrep` times; bins with fewer stay NA. */
+static int run_quota(bc_shift *s, bc_err *err)
+{
+	const bc_shift_options *o = &s->opts;
+	size_t nb = s->nbins, nrep = replicates(o);
+	double *rep = bc__malloc(nrep * nb * sizeof *rep), *tmp = bc__malloc(nrep * sizeof *tmp);
+	if (!rep || !tmp) {
+		free(rep);
+		free(tmp);
+		return oom(err);
+	}
+	for (size_t r = 0; r < nrep; r++) {
+		bc_rng g;
+		bc_resample__rng_init(&g, o->seed, STREAM_QUOTA, r);
+		for (size_t b = 0; b < nb; b++) {
+			uint64_t dp = (uint64_t)llround(s->out[b].n_deep), m = dp + (uint64_t)llround(s->out[b].n_shallow);
+			if (m < o->quota) {
+				rep[r * nb + b] = NAN;
+				continue;
+			}
+			uint64_t k = 0;
+			for (size_t j = 0; j < o->quota; j++, m--)
+				if (bc_resample__below(&g, m) < dp) {
+					k++;
+					dp--;
+				}
+			rep[r * nb + b] = (double)k / (double)o->quota;
+		}
+	}
+	for (size_t b = 0; b < nb; b++)
+		summarise(&rep[b], nrep, nb, o->level, tmp, &s->out[b].quota_lo, &s->out[b].quota_mid, &s->out[b].quota_hi);
+	s->rs->has_quota = 1;
+	s->rs->replicates = nrep;
+	free(rep);
+	free(tmp);
+	return BC_OK;
+}
+
+/* A plain table of a subset of the same data: same bins, zones and rules,
+ * no uncertainty options. An empty subset gives *out = NULL and `note`. */
+static int subset(bc_shift **out, bc_shift *s, bc_db *db, const bc_chart *chart, int clear_selection,
+		  const char *preservation, char *note, size_t notelen, bc_err *err)
+{
+	bc_shift_options o = s->opts;
+	o.chart = chart;
+	o.draws = 0;
+	o.bootstrap = 0;
+	o.weight_references = 0;
+	o.background = BC_BACKGROUND_NONE;
+	o.background_with_focal = 0;
+	o.quota = 0;
+	o.taphonomy = 0;
+	if (clear_selection)
+		o.group = o.taxon = o.preservation = NULL;
+	if (preservation)
+		o.preservation = preservation;
+	bc_err e = {0};
+	*out = NULL;
+	int rc = bc_shift_compute(out, db, &o, &e);
+	if (rc == BC_EINVALID) {
+		snprintf(note, notelen, "%s", e.msg);
+		return BC_OK;
+	}
+	if (rc && err)
+		*err = e;
+	return rc;
+}
+
+/* The bin of `t` with the same bounds as s's bin i, or NULL. */
+static const bc_shift_bin *same_bin(const bc_shift *t, const bc_shift_bin *b)
+{
+	if (!t)
+		return NULL;
+	for (size_t j = 0; j < t->nbins; j++)
+		if (t->out[j].older_ma == b->older_ma && t->out[j].younger_ma == b->younger_ma)
+			return &t->out[j];
+	return NULL;
+}
+
+static int run_background(bc_shift *s, bc_db *db, const bc_chart *chart, bc_err *err)
+{
+	const bc_shift_options *o = &s->opts;
+	bc_shift *bg = NULL;
+	char note[1100] = "";
+	int rc = subset(&bg, s, db, chart, 1, NULL, note, sizeof note, err);
+	if (rc)
+		return rc;
+	size_t nb = s->nbins;
+	double *k = bc__calloc(nb + 1, sizeof *k), *n = bc__calloc(nb + 1, sizeof *n);
+	double *K = bc__calloc(nb + 1, sizeof *K), *N = bc__calloc(nb + 1, sizeof *N);
+	if (!k || !n || !K || !N) {
+		rc = oom(err);
+		goto done;
+	}
+	s->rs->bg_selected = bg ? bg->sum.n_used : 0;
+	for (size_t b = 0; b < nb; b++) {
+		bc_shift_bin *x = &s->out[b];
+		const bc_shift_bin *y = same_bin(bg, x);
+		double Kb = y ? y->n_deep : 0, Nb = y ? y->n_deep + y->n_shallow : 0;
+		if (!o->background_with_focal) {
+			Kb -= x->n_deep;
+			Nb -= x->n_deep + x->n_shallow;
+		}
+		/* guard against rounding with --span split */
+		Kb = fmax(0, Kb);
+		Nb = fmax(Kb, Nb);
+		x->bg_n = Nb;
+		x->bg_deep = Kb;
+		x->bg_frac_deep = Nb > 0 ? Kb / Nb : NAN;
+		k[b] = x->n_deep;
+		n[b] = x->n_deep + x->n_shallow;
+		K[b] = Kb;
+		N[b] = Nb;
+		/* per bin: the binned and pooled forms agree */
+		bc_affinity a;
+		bc_resample__affinity(&a, &k[b], &n[b], &K[b], &N[b], 1, 0, 1 - o->level);
+		x->affinity_p_deep = a.p_deep;
+		x->affinity_p_shallow = a.p_shallow;
+	}
+	bc_affinity a;
+	bc_resample__affinity(&a, k, n, K, N, nb, o->background == BC_BACKGROUND_POOLED, 1 - o->level);
+	bc_shift_tests *t = &s->tests;
+	t->aff_k = a.k;
+	t->aff_n = a.n;
+	t->aff_p0 = a.p0;
+	t->aff_expected = a.expected;
+	t->aff_p_deep = a.p_deep;
+	t->aff_p_shallow = a.p_shallow;
+	t->aff_verdict = a.verdict;
+	s->rs->has_bg = 1;
+done:
+	free(k);
+	free(n);
+	free(K);
+	free(N);
+	bc_shift_free(bg);
+	return rc;
+}
+
+/* The transport flag (doc/shift.md): the full-data trend is significant
+ * (two-sided Cochran-Armitage p < 1 - level) and articulated material alone
+ * does not support it, i.e. NOT (its trend z has the same sign AND (it is
+ * significant itself OR its logistic slope has the same sign and at least
+ * half the full-data slope)). */
+static void taphonomy_verdict(bc_shift *s)
+{
+	bc_shift_tests *t = &s->tests;
+	const bc_shift *a = s->rs->art;
+	double alpha = 1 - s->opts.level;
+	t->art_bins_tested = a ? a->tests.n_bins_tested : 0;
+	t->art_trend_z = a ? a->tests.trend_z : NAN;
+	t->art_trend_p = a ? a->tests.trend_p : NAN;
+	t->art_logit_slope = a ? a->tests.logit_slope : NAN;
+	t->art_logit_p = a ? a->tests.logit_p : NAN;
+	t->transport_flag = 0;
+	if (!(t->trend_p < alpha)) {
+		t->taphonomy_verdict = "no significant trend in the full data: nothing for transport to explain";
+		return;
+	}
+	int same_sign = isfinite(t->art_trend_z) && (t->art_trend_z > 0) == (t->trend_z > 0) && t->art_trend_z != 0;
+	int art_sig = t->art_trend_p < alpha;
+	int half = isfinite(t->art_logit_slope) && isfinite(t->logit_slope) && t->art_logit_slope * t->logit_slope > 0 &&
+		   fabs(t->art_logit_slope) >= 0.5 * fabs(t->logit_slope);
+	if (same_sign && art_sig) {
+		t->taphonomy_verdict = "the trend holds in articulated material alone";
+	} else if (same_sign && half) {
+		t->taphonomy_verdict = "articulated material alone shows the same direction and at least half the slope, but not significantly (fewer occurrences); not flagged";
+	} else {
+		t->transport_flag = 1;
+		t->taphonomy_verdict = a ? "FLAG: the shift is carried by disarticulated or unclassified material; articulated material alone does not show it (loose ossicles may have been transported)"
+					 : "FLAG: there is no articulated material to confirm the shift; it rests on disarticulated or unclassified material (loose ossicles may have been transported)";
+	}
+}
+
+static int run_taphonomy(bc_shift *s, bc_db *db, const bc_chart *chart, bc_err *err)
+{
+	struct bc_resample *rs = s->rs;
+	int rc = subset(&rs->art, s, db, chart, 0, "articulated", rs->art_note, sizeof rs->art_note, err);
+	if (rc == BC_OK)
+		rc = subset(&rs->dis, s, db, chart, 0, "disarticulated", rs->dis_note, sizeof rs->dis_note, err);
+	if (rc)
+		return rc;
+	for (size_t b = 0; b < s->nbins; b++) {
+		bc_shift_bin *x = &s->out[b];
+		const bc_shift_bin *y = same_bin(rs->art, x);
+		x->art_n = y ? y->n_shallow + y->n_deep : 0;
+		x->art_frac_deep = y ? y->frac_deep : NAN;
+		x->art_lo = y ? y->frac_deep_lo : NAN;
+		x->art_hi = y ? y->frac_deep_hi : NAN;
+	}
+	taphonomy_verdict(s);
+	rs->has_taph = 1;
+	return BC_OK;
+}
+
+void bc_resample__free(struct bc_resample *rs)
+{
+	if (!rs)
+		return;
+	bc_resample__draws_free(&rs->dr);
+	bc_shift_free(rs->art);
+	bc_shift_free(rs->dis);
+	free(rs);
+}
+
+int bc_resample__run(bc_shift *s, bc_db *db, const bc_chart *chart, bc_err *err)
+{
+	const bc_shift_options *o = &s->opts;
+	for (size_t b = 0; b < s->nbins; b++) {
+		bc_shift_bin *x = &s->out[b];
+		x->has_draws = 0;
+		x->draw_lo = x->draw_mid = x->draw_hi = x->draw_defined = x->draw_break_share = NAN;
+		x->refw_frac_deep = x->refw_lo = x->refw_hi = x->n_ref_units = NAN;
+		x->bg_n = x->bg_deep = x->bg_frac_deep = x->affinity_p_deep = x->affinity_p_shallow = NAN;
+		x->quota_lo = x->quota_mid = x->quota_hi = NAN;
+		x->art_n = x->art_frac_deep = x->art_lo = x->art_hi = NAN;
+	}
+	bc_shift_tests *t = &s->tests;
+	t->n_draws = 0;
+	t->draw_trend_z_lo = t->draw_trend_z_mid = t->draw_trend_z_hi = t->draw_trend_sig_share = t->draw_break_mode_share = NAN;
+	t->draw_break_before = t->draw_break_after = NULL;
+	t->aff_k = t->aff_n = t->aff_p0 = t->aff_expected = t->aff_p_deep = t->aff_p_shallow = NAN;
+	t->aff_verdict = NULL;
+	t->art_bins_tested = 0;
+	t->art_trend_z = t->art_trend_p = t->art_logit_slope = t->art_logit_p = NAN;
+	t->transport_flag = 0;
+	t->taphonomy_verdict = NULL;
+	if (!bc_resample__wanted(o))
+		return BC_OK;
+	if (!(s->rs = bc__calloc(1, sizeof *s->rs)))
+		return oom(err);
+	int rc = BC_OK;
+	if (o->draws && (o->resample || o->bootstrap))
+		rc = run_draws(s, err);
+	if (rc == BC_OK && o->weight_references)
+		rc = run_refw(s, err);
+	if (rc == BC_OK && o->quota)
+		rc = run_quota(s, err);
+	if (rc == BC_OK && o->background)
+		rc = run_background(s, db, chart, err);
+	if (rc == BC_OK && o->taphonomy)
+		rc = run_taphonomy(s, db, chart, err);
+	return rc;
+}
+
+/* ------------------------------------------------------------------ */
+/* Output                                                               */
+/* ------------------------------------------------------------------ */
+
+typedef struct colspec {
+	const char *name;
+	bc_col_type type;
+	int digits;
+} colspec;
+
+static const colspec draw_cols[] = {
+	{"draws_frac_deep_lo", BC_COL_REAL, 3}, {"draws_frac_deep_median", BC_COL_REAL, 3}, {"draws_frac_deep_hi", BC_COL_REAL, 3},
+	{"draws_defined", BC_COL_REAL, 3}, {"draws_breakpoint_share", BC_COL_REAL, 3},
+};
+static const colspec refw_cols[] = {
+	{"ref_units", BC_COL_COUNT, 0}, {"refw_frac_deep", BC_COL_REAL, 3}, {"refw_lo", BC_COL_REAL, 3}, {"refw_hi", BC_COL_REAL, 3},
+};
+static const colspec bg_cols[] = {
+	{"bg_n", BC_COL_COUNT, 0}, {"bg_deep", BC_COL_COUNT, 0}, {"bg_frac_deep", BC_COL_REAL, 3},
+	{"affinity_p_deep", BC_COL_P, 0}, {"affinity_p_shallow", BC_COL_P, 0},
+};
+static const colspec quota_cols[] = {
+	{"quota_frac_deep_lo", BC_COL_REAL, 3}, {"quota_frac_deep_median", BC_COL_REAL, 3}, {"quota_frac_deep_hi", BC_COL_REAL, 3},
+};
+static const colspec taph_cols[] = {
+	{"art_n", BC_COL_COUNT, 0}, {"art_frac_deep", BC_COL_REAL, 3}, {"art_frac_deep_lo", BC_COL_REAL, 3}, {"art_frac_deep_hi", BC_COL_REAL, 3},
+};
+
+#define NCOLS(a) (sizeof a / sizeof a[0])
+
+static int add_cols(bc_table *t, const colspec *c, size_t n, bc_err *err)
+{
+	int rc = BC_OK;
+	for (size_t i = 0; rc == BC_OK && i < n; i++)
+		rc = bc_output__add_column(t, c[i].name, c[i].type, c[i].digits, err);
+	return rc;
+}
+
+int bc_resample__columns(const bc_shift *s, bc_table *t, bc_err *err)
+{
+	const struct bc_resample *rs = s->rs;
+	int rc = BC_OK;
+	if (!rs)
+		return BC_OK;
+	if (rs->has_draws)
+		rc = add_cols(t, draw_cols, NCOLS(draw_cols), err);
+	if (rc == BC_OK && rs->has_refw)
+		rc = add_cols(t, refw_cols, NCOLS(refw_cols), err);
+	if (rc == BC_OK && rs->has_bg)
+		rc = add_cols(t, bg_cols, NCOLS(bg_cols), err);
+	if (rc == BC_OK && rs->has_quota)
+		rc = add_cols(t, quota_cols, NCOLS(quota_cols), err);
+	if (rc == BC_OK && rs->has_taph)
+		rc = add_cols(t, taph_cols, NCOLS(taph_cols), err);
+	return rc;
+}
+
+void bc_resample__row(const bc_shift *s, bc_table *t, size_t i, size_t c)
+{
+	const struct bc_resample *rs = s->rs;
+	const bc_shift_bin *x = &s->out[i];
+	if (!rs)
+		return;
+	if (rs->has_draws) {
+		const double v[] = {x->draw_lo, x->draw_mid, x->draw_hi, x->draw_defined, x->draw_break_share};
+		for (size_t k = 0; k < NCOLS(v); k++)
+			bc_output__set_num(t, c++, v[k]);
+	}
+	if (rs->has_refw) {
+		const double v[] = {x->n_ref_units, x->refw_frac_deep, x->refw_lo, x->refw_hi};
+		for (size_t k = 0; k < NCOLS(v); k++)
+			bc_output__set_num(t, c++, v[k]);
+	}
+	if (rs->has_bg) {
+		const double v[] = {x->bg_n, x->bg_deep, x->bg_frac_deep, x->affinity_p_deep, x->affinity_p_shallow};
+		for (size_t k = 0; k < NCOLS(v); k++)
+			bc_output__set_num(t, c++, v[k]);
+	}
+	if (rs->has_quota) {
+		const double v[] = {x->quota_lo, x->quota_mid, x->quota_hi};
+		for (size_t k = 0; k < NCOLS(v); k++)
+			bc_output__set_num(t, c++, v[k]);
+	}
+	if (rs->has_taph) {
+		const double v[] = {x->art_n, x->art_frac_deep, x->art_lo, x->art_hi};
+		for (size_t k = 0; k < NCOLS(v); k++)
+			bc_output__set_num(t, c++, v[k]);
+	}
+}
+
+static const char *background_word(const bc_shift_options *o)
+{
+	return o->background == BC_BACKGROUND_POOLED ? "pooled" : "binned";
+}
+
+int bc_resample__tests(const bc_shift *s, bc_table *t, bc_err *err)
+{
+	const struct bc_resample *rs = s->rs;
+	const bc_shift_tests *te = &s->tests;
+	const bc_meta_section T = BC_META_TESTS;
+	int rc = BC_OK;
+	if (!rs)
+		return BC_OK;
+	if (rs->has_draws) {
+		rc = bc_output__meta_num(t, T, "draws", (double)te->n_draws, 0, err);
+		if (rc == BC_OK)
+			rc = bc_output__meta_num(t, T, "draws_trend_z_lo", te->draw_trend_z_lo, 0, err);
+		if (rc == BC_OK)
+			rc = bc_output__meta_num(t, T, "draws_trend_z_median", te->draw_trend_z_mid, 0, err);
+		if (rc == BC_OK)
+			rc = bc_output__meta_num(t, T, "draws_trend_z_hi", te->draw_trend_z_hi, 0, err);
+		if (rc == BC_OK)
+			rc = bc_output__meta_num(t, T, "draws_trend_significant_share", te->draw_trend_sig_share, 0, err);
+		if (rc == BC_OK)
+			rc = bc_output__meta_text(t, T, "draws_breakpoint_mode", err, "%s%s%s", te->draw_break_before ? te->draw_break_before : "NA",
+				te->draw_break_before ? " | " : "", te->draw_break_after ? te->draw_break_after : "");
+		if (rc == BC_OK)
+			rc = bc_output__meta_num(t, T, "draws_breakpoint_mode_share", te->draw_break_mode_share, 0, err);
+		if (rc == BC_OK)
+			rc = bc_output__meta_text(t, T, "draws_breakpoint_note", err, "draws_breakpoint_share in each row: the share of draws whose most likely breakpoint is that bin's older boundary; "
+				"the rest of the draws had no breakpoint (fewer than two bins with data, or all shallow / all deep)");
+	}
+	if (rc == BC_OK && rs->has_bg) {
+		rc = bc_output__meta_text(t, T, "affinity_test", err, "one-sided binomial tests of the selection's deep count against the background deep share, %s background, focal occurrences %s the background; "
+			"bins where the selection or the background has no shallow or deep occurrence are left out", background_word(&s->opts), s->opts.background_with_focal ? "included in" : "removed from");
+		if (rc == BC_OK)
+			rc = bc_output__meta_num(t, T, "affinity_deep", te->aff_k, 0, err);
+		if (rc == BC_OK)
+			rc = bc_output__meta_num(t, T, "affinity_n", te->aff_n, 0, err);
+		if (rc == BC_OK)
+			rc = bc_output__meta_num(t, T, "affinity_expected_share", te->aff_p0, 0, err);
+		if (rc == BC_OK)
+			rc = bc_output__meta_num(t, T, "affinity_expected_deep", te->aff_expected, 0, err);
+		if (rc == BC_OK)
+			rc = bc_output__meta_num(t, T, "affinity_p_deep", te->aff_p_deep, 1, err);
+		if (rc == BC_OK)
+			rc = bc_output__meta_num(t, T, "affinity_p_shallow", te->aff_p_shallow, 1, err);
+		if (rc == BC_OK)
+			rc = bc_output__meta_text(t, T, "affinity", err, "%s (one-sided alpha %g)", te->aff_verdict ? te->aff_verdict : "none", 1 - s->opts.level);
+	}
+	if (rc == BC_OK && rs->has_taph) {
+		rc = bc_output__meta_num(t, T, "articulated_bins_tested", (double)te->art_bins_tested, 0, err);
+		if (rc == BC_OK)
+			rc = bc_output__meta_num(t, T, "articulated_trend_z", te->art_trend_z, 0, err);
+		if (rc == BC_OK)
+			rc = bc_output__meta_num(t, T, "articulated_trend_p", te->art_trend_p, 1, err);
+		if (rc == BC_OK)
+			rc = bc_output__meta_num(t, T, "articulated_logit_slope_per_myr", te->art_logit_slope, 0, err);
+		if (rc == BC_OK)
+			rc = bc_output__meta_text(t, T, "transport_flag", err, "%s", te->transport_flag ? "yes" : "no");
+		if (rc == BC_OK)
+			rc = bc_output__meta_text(t, T, "taphonomy", err, "%s", te->taphonomy_verdict ? te->taphonomy_verdict : "");
+		if (rc == BC_OK && !rs->art)
+			rc = bc_output__meta_text(t, T, "articulated_subset", err, "empty: %s", rs->art_note);
+	}
+	return rc;
+}
+
+void bc_resample__describe_options(const bc_shift_options *o, bc_buf *b)
+{
+	if (o->draws) {
+		bc__buf_printf(b, " --draws %zu", o->draws);
+		bc__buf_printf(b, " --resample %s", o->resample == (BC_RESAMPLE_AGE | BC_RESAMPLE_DEPTH) ? "age,depth" :
+			o->resample == BC_RESAMPLE_AGE ? "age" : o->resample == BC_RESAMPLE_DEPTH ? "depth" : "none");
+		if (o->bootstrap)
+			bc__buf_puts(b, " --bootstrap");
+	}
+	if (o->weight_references)
+		bc__buf_puts(b, " --weight-references");
+	if (o->background) {
+		bc__buf_printf(b, " --background %s", background_word(o));
+		if (o->background_with_focal)
+			bc__buf_puts(b, " --background-with-focal");
+	}
+	if (o->quota)
+		bc__buf_printf(b, " --quota %zu", o->quota);
+	if (o->taphonomy)
+		bc__buf_puts(b, " --taphonomy");
+	if (bc_resample__wanted(o) && (o->draws || o->weight_references || o->quota))
+		bc__buf_printf(b, " --seed %llu", (unsigned long long)o->seed);
+}
+
+#define RNG_WORDS "xoshiro256** (Blackman and Vigna 2021), one generator per draw seeded by splitmix64 (Steele, Lea and Flood 2014) from (seed, stream, draw index)"
+
+int bc_resample__stamp(const bc_shift *s, bc_table *t, bc_err *err)
+{
+	const struct bc_resample *rs = s->rs;
+	const bc_shift_options *o = &s->opts;
+	const bc_meta_section S = BC_META_STAMP;
+	int rc = BC_OK;
+	if (!rs)
+		return BC_OK;
+	if (rs->has_draws || rs->has_refw || rs->has_quota) {
+		rc = bc_output__meta_text(t, S, "random_numbers", err, "seed %llu; %s; results do not depend on the number of threads",
+			(unsigned long long)o->seed, RNG_WORDS);
+		if (rc == BC_OK)
+			rc = bc_output__meta_text(t, S, "intervals_from_draws", err, "quantiles %g and %g (and the median) of the draws' values, linear interpolation between order statistics (Hyndman and Fan 1996 type 7); draws without a value are left out",
+				(1 - o->level) / 2, (1 + o->level) / 2);
+	}
+	if (rc == BC_OK && rs->has_draws)
+		rc = bc_output__meta_text(t, S, "draws", err, "%zu draws over %zu occurrences (%zu with an age drawn uniformly within their range, %zu with a depth drawn uniformly within a range that straddles %g m)%s; "
+			"an age range inside one bin keeps that bin; ages falling outside the reported bins are not counted in that draw; depths are drawn only at the first boundary",
+			o->draws, rs->n_pop, rs->n_age_drawn, rs->n_depth_drawn, o->zones[0],
+			o->bootstrap ? "; each draw first resamples the occurrences with replacement (bootstrap)" :
+			"; no bootstrap, so the draws show age and depth uncertainty only, not sampling error");
+	if (rc == BC_OK && rs->has_refw)
+		rc = bc_output__meta_text(t, S, "reference_weighting", err, "in each bin every reference weighs 1 (all occurrences without a reference form one unit); refw_frac_deep = mean of the references' own deep shares; "
+			"interval from %zu bootstrap resamples of the %zu references with shallow or deep occurrences", rs->replicates, rs->n_units);
+	if (rc == BC_OK && rs->has_bg)
+		rc = bc_output__meta_text(t, S, "background", err, "all occurrences with a palaeodepth in the database%s, same bins, zones and span rule (%zu counted), focal selection %s; expected share %s",
+			o->has_region ? " inside --region" : "", rs->bg_selected, o->background_with_focal ? "included" : "removed",
+			o->background == BC_BACKGROUND_POOLED ? "pooled K/N over the bins the selection occupies" : "bin-weighted: sum of n_b K_b/N_b over n");
+	if (rc == BC_OK && rs->has_quota)
+		rc = bc_output__meta_text(t, S, "quota", err, "%zu shallow or deep occurrences drawn without replacement in each bin, %zu times; bins with fewer are NA%s",
+			o->quota, rs->replicates, o->span == BC_SPAN_SPLIT ? "; fractional counts rounded" : "");
+	if (rc == BC_OK && rs->has_taph)
+		rc = bc_output__meta_text(t, S, "transport_flag_rule", err, "flag when the full-data trend is significant (two-sided p < %g) and articulated material alone does not support it: "
+			"NOT (same sign of trend z AND (p < %g OR logistic slope of the same sign and at least half the full-data slope))", 1 - o->level, 1 - o->level);
+	return rc;
+}
+
+void bc_resample__methods(const bc_shift *s, bc_buf *b)
+{
+	const struct bc_resample *rs = s->rs;
+	const bc_shift_options *o = &s->opts;
+	const bc_shift_tests *t = &s->tests;
+	if (!rs)
+		return;
+	if (rs->has_draws) {
+		bc__buf_printf(b, "Age and depth uncertainty were propagated by %zu resampling draws: in each draw every occurrence", o->draws);
+		if (o->resample & BC_RESAMPLE_AGE)
+			bc__buf_puts(b, " whose age range was not inside one bin received an age drawn uniformly within its range, and so a bin");
+		if (o->resample == (BC_RESAMPLE_AGE | BC_RESAMPLE_DEPTH))
+			bc__buf_puts(b, ", and every occurrence");
+		if (o->resample & BC_RESAMPLE_DEPTH)
+			bc__buf_printf(b, " whose palaeodepth range straddled %g m received a depth drawn uniformly within its range, and so a zone", o->zones[0]);
+		if (!o->resample)
+			bc__buf_puts(b, " kept its bin and zone");
+		if (o->bootstrap)
+			bc__buf_puts(b, "; the occurrences were first resampled with replacement (a nonparametric bootstrap; Efron and Tibshirani 1993)");
+		bc__buf_printf(b, ". We report each bin's median deep share over the draws with the %g and %g quantiles, and how often each bin boundary was the most likely breakpoint",
+			(1 - o->level) / 2, (1 + o->level) / 2);
+		if (t->draw_break_after)
+			bc__buf_printf(b, " (between %s and %s in %.0f%% of draws)", t->draw_break_before, t->draw_break_after, 100 * t->draw_break_mode_share);
+		bc__buf_printf(b, "; the trend test was significant in %.0f%% of draws.", 100 * t->draw_trend_sig_share);
+		if (!o->bootstrap)
+			bc__buf_puts(b, " Without a bootstrap these bands show age and depth uncertainty only, not sampling error.");
+		bc__buf_puts(b, " ");
+	}
+	if (rs->has_refw)
+		bc__buf_printf(b, "To keep a few prolific publications from driving the result, each reference present in a bin was given equal weight (its occurrences sharing it equally; occurrences without a reference formed one unit), "
+			"and the interval of this reference-weighted deep share comes from %zu bootstrap resamples of the references. ", rs->replicates);
+	if (rs->has_bg) {
+		bc__buf_printf(b, "Depth affinity was tested against the sampled background, all occurrences with a palaeodepth in the same bins%s with the selected occurrences %s, "
+			"by a one-sided binomial test of the selection's deep count against the %s background deep share",
+			o->has_region ? " and region" : "", o->background_with_focal ? "included" : "removed",
+			o->background == BC_BACKGROUND_POOLED ? "pooled" : "bin-weighted (sum of each bin's count times its background share)");
+		bc__buf_puts(b, ", a form of the binomial environmental-affinity test used by Kiessling and Aberhan (2007) and Simpson and Harnik (2009)");
+		if (isfinite(t->aff_p0))
+			bc__buf_printf(b, " (%.0f of %.0f deep against %.1f expected; P(X >= k) = %.3g, P(X <= k) = %.3g: affinity %s)", t->aff_k, t->aff_n, t->aff_expected,
+				t->aff_p_deep, t->aff_p_shallow, t->aff_verdict);
+		bc__buf_puts(b, ". ");
+	}
+	if (rs->has_quota)
+		bc__buf_printf(b, "To compare bins at equal sample size, each bin was subsampled to %zu shallow or deep occurrences without replacement, %zu times (bins with fewer were not used). ",
+			o->quota, rs->replicates);
+	if (rs->has_taph) {
+		bc__buf_puts(b, "To test whether the shift could be an artefact of transported loose ossicles, the analysis was repeated on articulated material alone");
+		if (isfinite(t->art_trend_z))
+			bc__buf_printf(b, " (z = %.2f, p = %.3g)", t->art_trend_z, t->art_trend_p);
+		bc__buf_printf(b, "; a shift was to be flagged as carried by disarticulated material when the full-data trend was significant and articulated material alone did not show it "
+			"in the same direction, either significantly or with at least half the logistic slope. Result: %s. ", t->taphonomy_verdict);
+	}
+}
+
+void bc_resample__references(const bc_shift *s, bc_buf *b)
+{
+	const struct bc_resample *rs = s->rs;
+	if (!rs)
+		return;
+	if (rs->has_draws || rs->has_refw || rs->has_quota) {
+		bc__buf_puts(b, "Blackman D, Vigna S (2021) Scrambled linear pseudorandom number generators. ACM Transactions on Mathematical Software 47(4):36.\n");
+		bc__buf_puts(b, "Efron B, Tibshirani RJ (1993) An Introduction to the Bootstrap. Chapman and Hall, New York.\n");
+		bc__buf_puts(b, "Hyndman RJ, Fan Y (1996) Sample quantiles in statistical packages. The American Statistician 50(4):361-365.\n");
+	}
+	if (rs->has_bg) {
+		bc__buf_puts(b, "Kiessling W, Aberhan M (2007) Environmental determinants of marine benthic biodiversity dynamics through Triassic-Jurassic time. Paleobiology 33(3):414-434.\n");
+		bc__buf_puts(b, "Simpson C, Harnik PG (2009) Assessing the role of abundance in marine bivalve extinction over the post-Paleozoic. Paleobiology 35(4):631-647.\n");
+	}
+	if (rs->has_draws || rs->has_refw || rs->has_quota)
+		bc__buf_puts(b, "Steele GL, Lea D, Flood CH (2014) Fast splittable pseudorandom number generators. Proceedings of OOPSLA 2014, ACM, 453-472.\n");
+}
+
+/* ------------------------------------------------------------------ */
+/* The taphonomic sensitivity table                                     */
+/* ------------------------------------------------------------------ */
+
+int bc_shift_write_taphonomy(const bc_shift *s, FILE *f, bc_format format, bc_err *err)
+{
+	const struct bc_resample *rs = s->rs;
+	if (!rs || !rs->has_taph)
+		return bc_err_set(err, BC_EUSAGE, "shift: the taphonomy table needs --taphonomy");
+	bc_table *t = NULL;
+	int rc = bc_output__table_new(&t, "taphonomy", err);
+	if (rc)
+		return rc;
+	static const colspec fixed[] = {{"bin", BC_COL_TEXT, 0}, {"older_ma", BC_COL_REAL, -1}, {"younger_ma", BC_COL_REAL, -1}};
+	static const char *const subsets[] = {"all", "articulated", "disarticulated"};
+	rc = add_cols(t, fixed, NCOLS(fixed), err);
+	for (size_t k = 0; rc == BC_OK && k < 3; k++) {
+		char name[64];
+		static const char *const what[] = {"n_%s", "frac_deep_%s", "frac_deep_lo_%s", "frac_deep_hi_%s"};
+		for (size_t j = 0; rc == BC_OK && j < 4; j++) {
+			snprintf(name, sizeof name, what[j], subsets[k]);
+			rc = bc_output__add_column(t, name, j ? BC_COL_REAL : BC_COL_COUNT, j ? 3 : 0, err);
+		}
+	}
+	const bc_shift *sub[3] = {s, rs->art, rs->dis};
+	for (size_t i = 0; rc == BC_OK && i < s->nbins; i++) {
+		const bc_shift_bin *x = &s->out[i];
+		rc = bc_output__add_row(t, err);
+		if (rc == BC_OK)
+			rc = bc_output__set_text(t, 0, x->name, err);
+		bc_output__set_num(t, 1, x->older_ma);
+		bc_output__set_num(t, 2, x->younger_ma);
+		for (size_t k = 0; k < 3; k++) {
+			const bc_shift_bin *y = k == 0 ? x : same_bin(sub[k], x);
+			bc_output__set_num(t, 3 + 4 * k, y ? y->n_shallow + y->n_deep : 0);
+			bc_output__set_num(t, 4 + 4 * k, y ? y->frac_deep : NAN);
+			bc_output__set_num(t, 5 + 4 * k, y ? y->frac_deep_lo : NAN);
+			bc_output__set_num(t, 6 + 4 * k, y ? y->frac_deep_hi : NAN);
+		}
+	}
+	if (rc == BC_OK)
+		rc = bc_output__set_caption(t, "Taphonomic sensitivity: the deep share (shallow + deep occurrences, Wilson intervals) in all material, in articulated material alone "
+			"(buried where it lived) and in disarticulated material alone (loose ossicles that may have been transported); partly articulated and unclassified material is only in 'all'.", err);
+	const bc_meta_section T = BC_META_TESTS;
+	for (size_t k = 0; rc == BC_OK && k < 3; k++) {
+		const bc_shift_tests *te = sub[k] ? &sub[k]->tests : NULL;
+		char key[64];
+		snprintf(key, sizeof key, "trend_z_%s", subsets[k]);
+		rc = bc_output__meta_num(t, T, key, te ? te->trend_z : NAN, 0, err);
+		snprintf(key, sizeof key, "trend_p_%s", subsets[k]);
+		if (rc == BC_OK)
+			rc = bc_output__meta_num(t, T, key, te ? te->trend_p : NAN, 1, err);
+		snprintf(key, sizeof key, "logit_slope_per_myr_%s", subsets[k]);
+		if (rc == BC_OK)
+			rc = bc_output__meta_num(t, T, key, te ? te->logit_slope : NAN, 0, err);
+		snprintf(key, sizeof key, "breakpoint_%s", subsets[k]);
+		if (rc == BC_OK)
+			rc = bc_output__meta_text(t, T, key, err, "%s%s%s", te && te->break_before ? te->break_before : "NA",
+				te && te->break_before ? " | " : "", te && te->break_after ? te->break_after : "");
+	}
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, T, "transport_flag", err, "%s", s->tests.transport_flag ? "yes" : "no");
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, T, "taphonomy", err, "%s", s->tests.taphonomy_verdict ? s->tests.taphonomy_verdict : "");
+	if (rc == BC_OK)
+		rc = bc_shift__stamp(s, t, err);
+	if (rc == BC_OK)
+		rc = bc_output__write(t, f, format, err);
+	bc_output__table_free(t);
+	return rc;
+}
