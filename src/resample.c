@@ -73,7 +73,7 @@ void bc_resample__rng_init(bc_rng *r, uint64_t seed, uint64_t stream, uint64_t i
 
 static uint64_t rotl(uint64_t x, int k) { return (x << k) | (x >> (64 - k)); }
 
-uint64_t bc_resample__next(bc_rng *r)
+static inline uint64_t rng_next(bc_rng *r)
 {
 	uint64_t *s = r->s;
 	uint64_t out = rotl(s[1] * 5, 7) * 9;
@@ -87,14 +87,35 @@ uint64_t bc_resample__next(bc_rng *r)
 	return out;
 }
 
-double bc_resample__uniform(bc_rng *r) { return (double)(bc_resample__next(r) >> 11) * 0x1.0p-53; }
+static inline double rng_uniform(bc_rng *r) { return (double)(rng_next(r) >> 11) * 0x1.0p-53; }
+
+/* Uniform on 0 .. n-1 for n <= 2^32 by Lemire's (2019) multiply-and-reject
+ * method: exact, and a division only in the rare rejection branch. */
+static inline uint32_t rng_below32(bc_rng *r, uint32_t n)
+{
+	uint64_t m = (rng_next(r) >> 32) * (uint64_t)n;
+	uint32_t low = (uint32_t)m;
+	if (low < n) {
+		uint32_t threshold = (0u - n) % n;
+		while (low < threshold) {
+			m = (rng_next(r) >> 32) * (uint64_t)n;
+			low = (uint32_t)m;
+		}
+	}
+	return (uint32_t)(m >> 32);
+}
+
+uint64_t bc_resample__next(bc_rng *r) { return rng_next(r); }
+double bc_resample__uniform(bc_rng *r) { return rng_uniform(r); }
 
 uint64_t bc_resample__below(bc_rng *r, uint64_t n)
 {
+	if (n <= UINT32_MAX)
+		return rng_below32(r, (uint32_t)n);
 	/* Reject the lowest (2^64 mod n) values so every residue is equally likely. */
 	uint64_t threshold = (0 - n) % n;
 	for (;;) {
-		uint64_t x = bc_resample__next(r);
+		uint64_t x = rng_next(r);
 		if (x >= threshold)
 			return x % n;
 	}
@@ -137,21 +158,32 @@ static double summarise(const double *v, size_t n, size_t stride, double level, 
 /* The draw engine                                                      */
 /* ------------------------------------------------------------------ */
 
-/* One occurrence as the draws see it. bin >= 0: fixed (its age range lies
- * in one bin, or ages are not resampled); -1: drawn. zone 0/1: fixed
- * shallow/deep; 2: straddling and not resampled (never in frac_deep);
- * -1: drawn. */
+/* One occurrence as the draws see it (24 bytes, so a draw streams through
+ * little memory). A drawn age is t = older - u * span, u uniform on [0, 1),
+ * so t never exceeds older. bin >= 0: fixed (its age range lies in one
+ * bin, or ages are not resampled); bin < 0: the age is drawn and k = -bin - 1
+ * is the first bin the range overlaps. zone >= 0: the depth is drawn from
+ * dmin[zone] + u * dspan[zone]; Z_SHALLOW/Z_DEEP: fixed; Z_STRADDLE:
+ * straddling and not resampled (never in frac_deep). */
 typedef struct item {
-	double older, younger, dmin, dmax;
+	double older, span;
 	int32_t bin;
-	int8_t zone;
+	int32_t zone;
 } item;
+
+enum { Z_SHALLOW = -1, Z_DEEP = -2, Z_STRADDLE = -3 };
+
+/* Items are stored by kind: runs of L = 2..RUN_MAX bins (segment L), then
+ * other drawn items, then fixed ones. */
+#define RUN_MAX 16
 
 typedef struct engine {
 	const bc_draw_spec *sp;
 	double split;
 	item *it;
-	size_t ne, nu;      /* items; the first nu need a drawn age or depth */
+	size_t seg[RUN_MAX + 3]; /* seg[L]..seg[L+1]: runs of L bins (L = 2..RUN_MAX); seg[RUN_MAX+1]..seg[RUN_MAX+2]: other drawn */
+	size_t nu, ne;      /* drawn items end at nu; all items end at ne */
+	double *dmin, *dspan; /* depth ranges of the items whose depth is drawn */
 	double *base;       /* nbins x 2: counts of the fixed items */
 	bc_draw_result *out;
 } engine;
@@ -164,23 +196,73 @@ typedef struct worker {
 	int started;
 } worker;
 
-static void draw_item(const engine *e, const item *it, bc_rng *r, double *cnt)
+static inline void count_item(const engine *e, const item *it, size_t b, bc_rng *r, double *cnt)
 {
-	const bc_draw_spec *sp = e->sp;
-	size_t b = it->bin >= 0 ? (size_t)it->bin : sp->nbins;
-	if (it->bin < 0) {
-		double t = it->younger + bc_resample__uniform(r) * (it->older - it->younger);
-		b = bc_shift__place(sp->bins, sp->nbins, t, t, NULL, NULL, NULL);
-		if (b == sp->nbins)
-			return; /* fell in a gap between bins or outside them */
-	}
-	int z = it->zone;
-	if (z < 0) {
-		double d = it->dmin + bc_resample__uniform(r) * (it->dmax - it->dmin);
+	int z = -it->zone - 1;
+	if (it->zone >= 0) {
+		double d = e->dmin[it->zone] + rng_uniform(r) * e->dspan[it->zone];
 		z = bc_shift__zone(d, d, &e->split, 1); /* a point depth never straddles */
 	}
 	if (z == 0 || z == 1)
 		cnt[2 * b + (size_t)z] += 1;
+}
+
+/* Any item: the bin by shift's own point-age rule. */
+static inline void draw_item(const engine *e, const item *it, bc_rng *r, double *cnt)
+{
+	const bc_draw_spec *sp = e->sp;
+	size_t b;
+	if (it->bin >= 0) {
+		b = (size_t)it->bin;
+	} else {
+		double t = it->older - rng_uniform(r) * it->span;
+		b = bc_shift__point_bin(sp->bins, sp->nbins, t, (size_t)(-(it->bin + 1)));
+		if (b == sp->nbins)
+			return; /* fell in a gap between bins or outside them */
+	}
+	count_item(e, it, b, r, cnt);
+}
+
+/* A run item: its age range overlaps exactly L contiguous bins k .. k+L-1
+ * (each bin's younger bound is the next one's older bound), with
+ * older <= bins[k].older and younger above bins[k+L-1].younger by more than
+ * rounding. For every t = older - u * span bc_shift__point_bin(t) is then k
+ * plus the number of the edges bins[k..k+L-2].younger at or above t (a bin
+ * holds its older bound), counted here without a branch on t. The unit
+ * test resample_run_fast_path checks the two agree. */
+static inline size_t run_bin(const bc_shift__bin *bins, size_t k, size_t L, double t)
+{
+	size_t b = k;
+	for (size_t m = 0; m + 1 < L; m++)
+		b += t <= bins[k + m].younger;
+	return b;
+}
+
+size_t bc_resample__run_bin(const bc_shift__bin *bins, size_t k, size_t L, double t) { return run_bin(bins, k, L, t); }
+
+static inline void draw_run(const engine *e, const item *it, size_t L, bc_rng *r, double *cnt)
+{
+	size_t k = (size_t)(-(it->bin + 1));
+	double t = it->older - rng_uniform(r) * it->span;
+	count_item(e, it, run_bin(e->sp->bins, k, L, t), r, cnt);
+}
+
+/* The run length of an age range (2..RUN_MAX), or 0 when it is not a run. */
+size_t bc_resample__run_length(const bc_shift__bin *bins, size_t nb, size_t k0, double older, double younger)
+{
+	if (k0 >= nb || older > bins[k0].older)
+		return 0;
+	size_t m = k0;
+	while (!(bins[m].younger < younger)) {
+		if (m + 1 >= nb || bins[m].younger != bins[m + 1].older || m + 1 - k0 >= RUN_MAX)
+			return 0;
+		m++;
+	}
+	/* t may fall an ulp or so below younger: keep a margin from the edge */
+	if (!(younger - bins[m].younger > 1e-9 * fmax(1.0, fabs(younger))))
+		return 0;
+	size_t L = m - k0 + 1;
+	return L >= 2 ? L : 0;
 }
 
 /* Per-draw statistics, computed exactly as shift.c's across-bin tests. */
@@ -218,6 +300,24 @@ static void draw_stats(const engine *e, size_t d, const double *cnt, double *sv,
 		o->brk[d] = (int32_t)idx[at];
 }
 
+/* One draw over the items, each `mult[j]` times (mult NULL: drawn items once, fixed ones from base). */
+static void one_draw(const engine *e, bc_rng *r, const uint32_t *mult, double *cnt)
+{
+	size_t nb = e->sp->nbins;
+	if (!mult)
+		memcpy(cnt, e->base, 2 * nb * sizeof *cnt);
+	else
+		memset(cnt, 0, 2 * nb * sizeof *cnt);
+	for (size_t L = 2; L <= RUN_MAX; L++)
+		for (size_t j = e->seg[L]; j < e->seg[L + 1]; j++)
+			for (uint32_t c = 0, n = mult ? mult[j] : 1; c < n; c++)
+				draw_run(e, &e->it[j], L, r, cnt);
+	size_t end = mult ? e->ne : e->nu;
+	for (size_t j = e->seg[RUN_MAX + 1]; j < end; j++)
+		for (uint32_t c = 0, n = mult ? mult[j] : 1; c < n; c++)
+			draw_item(e, &e->it[j], r, cnt);
+}
+
 static void *work(void *arg)
 {
 	worker *w = arg;
@@ -227,22 +327,23 @@ static void *work(void *arg)
 	double *cnt = bc__malloc(2 * nb * sizeof *cnt);
 	double *sv = bc__malloc(nb * sizeof *sv), *nv = bc__malloc(nb * sizeof *nv), *xv = bc__malloc(nb * sizeof *xv);
 	size_t *idx = bc__malloc(nb * sizeof *idx);
-	if (!cnt || !sv || !nv || !xv || !idx) {
+	uint32_t *mult = sp->bootstrap ? bc__malloc((e->ne ? e->ne : 1) * sizeof *mult) : NULL;
+	if (!cnt || !sv || !nv || !xv || !idx || (sp->bootstrap && !mult)) {
 		w->rc = BC_ENOMEM;
 		goto done;
 	}
 	for (size_t d = w->first; d < sp->draws; d += w->step) {
 		bc_rng r;
 		bc_resample__rng_init(&r, sp->seed, STREAM_DRAWS, d);
-		if (!sp->bootstrap) {
-			memcpy(cnt, e->base, 2 * nb * sizeof *cnt);
-			for (size_t j = 0; j < e->nu; j++)
-				draw_item(e, &e->it[j], &r, cnt);
-		} else {
-			memset(cnt, 0, 2 * nb * sizeof *cnt);
+		if (sp->bootstrap) {
+			/* n picks with replacement, kept as multiplicities; the picked
+			 * items are then drawn in storage order (same distribution,
+			 * and memory is read in sequence rather than at random) */
+			memset(mult, 0, e->ne * sizeof *mult);
 			for (size_t i = 0; i < e->ne; i++)
-				draw_item(e, &e->it[bc_resample__below(&r, e->ne)], &r, cnt);
+				mult[rng_below32(&r, (uint32_t)e->ne)]++;
 		}
+		one_draw(e, &r, mult, cnt);
 		draw_stats(e, d, cnt, sv, nv, xv, idx);
 	}
 done:
@@ -251,6 +352,7 @@ done:
 	free(nv);
 	free(xv);
 	free(idx);
+	free(mult);
 	return NULL;
 }
 
@@ -273,54 +375,88 @@ static int online_processors(void)
 
 int bc_resample__draws(bc_draw_result *out, const bc_draw_spec *sp, double split, bc_err *err)
 {
-	engine e = {sp, split, NULL, 0, 0, NULL, out};
+	engine e;
 	worker *w = NULL;
+	item *tmp = NULL;
+	uint8_t *cat = NULL;
 	int rc = BC_OK;
+	memset(&e, 0, sizeof e);
+	e.sp = sp;
+	e.split = split;
+	e.out = out;
 	memset(out, 0, sizeof *out);
 	out->draws = sp->draws;
 	out->nbins = sp->nbins;
-	size_t nd = sp->draws, nb = sp->nbins;
+	size_t nd = sp->draws, nb = sp->nbins, n = sp->n ? sp->n : 1;
+	if (sp->n > UINT32_MAX / 2)
+		return bc_err_set(err, BC_EUSAGE, "resampling draws: at most %u occurrences", UINT32_MAX / 2);
 	out->frac = bc__malloc((nd * nb > 0 ? nd * nb : 1) * sizeof *out->frac);
 	out->brk = bc__malloc((nd ? nd : 1) * sizeof *out->brk);
 	out->trend_z = bc__malloc((nd ? nd : 1) * sizeof *out->trend_z);
 	out->trend_p = bc__malloc((nd ? nd : 1) * sizeof *out->trend_p);
-	e.it = bc__malloc((sp->n ? sp->n : 1) * sizeof *e.it);
+	e.it = bc__malloc(n * sizeof *e.it);
+	tmp = bc__malloc(n * sizeof *tmp);
+	cat = bc__malloc(n);
+	e.dmin = bc__malloc(n * sizeof *e.dmin);
+	e.dspan = bc__malloc(n * sizeof *e.dspan);
 	e.base = bc__calloc(2 * nb + 1, sizeof *e.base);
-	if (!out->frac || !out->brk || !out->trend_z || !out->trend_p || !e.it || !e.base) {
+	if (!out->frac || !out->brk || !out->trend_z || !out->trend_p || !e.it || !tmp || !cat || !e.dmin || !e.dspan || !e.base) {
 		rc = oom(err);
 		goto done;
 	}
-	/* Two passes: items needing a drawn age or depth first, fixed ones after. */
-	for (int pass = 0; pass < 2; pass++) {
-		for (size_t i = 0; i < sp->n; i++) {
-			const bc_shift__occ *o = &sp->occ[i];
-			if (sp->span_rule == BC_SPAN_MAX && o->older - o->younger > sp->span_max_myr)
-				continue;
-			size_t major = bc_shift__place(sp->bins, sp->nbins, o->older, o->younger, NULL, NULL, NULL);
-			if (major == nb)
-				continue; /* overlaps no bin: never counted */
-			item it = {o->older, o->younger, o->dmin, o->dmax, (int32_t)major, 0};
-			if ((sp->what & BC_RESAMPLE_AGE) && o->older > o->younger) {
-				/* fixed when [younger, older) lies inside one bin */
-				size_t k = bc_shift__place(sp->bins, nb, o->younger, o->younger, NULL, NULL, NULL);
-				it.bin = k < nb && sp->bins[k].older >= o->older ? (int32_t)k : -1;
-			}
-			if (o->zone2 == BC_SHIFT__STRADDLE)
-				it.zone = (sp->what & BC_RESAMPLE_DEPTH) ? -1 : 2;
-			else
-				it.zone = (int8_t)o->zone2;
-			int drawn = it.bin < 0 || it.zone < 0;
-			if (pass == 0 && drawn) {
-				e.it[e.nu++] = it;
-			} else if (pass == 1 && !drawn) {
-				e.it[e.ne++] = it;
-				if (it.zone == 0 || it.zone == 1)
-					e.base[2 * (size_t)it.bin + (size_t)it.zone] += 1;
+	/* Each occurrence's item and kind: 2..RUN_MAX a run, RUN_MAX + 1 other
+	 * drawn, RUN_MAX + 2 fixed, 0 never counted; then a stable counting
+	 * sort by kind. Depth ranges are numbered in occurrence order. */
+	size_t count[RUN_MAX + 4] = {0}, nd_depth = 0;
+	for (size_t i = 0; i < sp->n; i++) {
+		const bc_shift__occ *o = &sp->occ[i];
+		cat[i] = 0;
+		if (sp->span_rule == BC_SPAN_MAX && o->older - o->younger > sp->span_max_myr)
+			continue;
+		size_t k0 = nb;
+		size_t major = bc_shift__place(sp->bins, nb, o->older, o->younger, &k0, NULL, NULL);
+		if (major == nb)
+			continue; /* overlaps no bin: never counted */
+		item it = {o->older, o->older - o->younger, (int32_t)major, Z_SHALLOW};
+		size_t L = 0;
+		if ((sp->what & BC_RESAMPLE_AGE) && o->older > o->younger) {
+			/* fixed when [younger, older] lies inside one bin */
+			size_t k = bc_shift__point_bin(sp->bins, nb, o->younger, k0);
+			if (!(k < nb && sp->bins[k].older >= o->older)) {
+				it.bin = -(int32_t)k0 - 1;
+				L = bc_resample__run_length(sp->bins, nb, k0, o->older, o->younger);
 			}
 		}
-		if (pass == 0)
-			e.ne = e.nu;
+		int drawn_depth = o->zone2 == BC_SHIFT__STRADDLE && (sp->what & BC_RESAMPLE_DEPTH);
+		if (drawn_depth) {
+			it.zone = (int32_t)nd_depth;
+			e.dmin[nd_depth] = o->dmin;
+			e.dspan[nd_depth++] = o->dmax - o->dmin;
+		} else {
+			it.zone = o->zone2 == BC_SHIFT__STRADDLE ? Z_STRADDLE : o->zone2 == BC_SHIFT__DEEP ? Z_DEEP : Z_SHALLOW;
+		}
+		cat[i] = (uint8_t)(L ? L : it.bin < 0 || drawn_depth ? RUN_MAX + 1 : RUN_MAX + 2);
+		tmp[i] = it;
+		count[cat[i]]++;
 	}
+	e.seg[2] = 0;
+	for (size_t c = 2; c <= RUN_MAX + 1; c++)
+		e.seg[c + 1] = e.seg[c] + count[c];
+	e.nu = e.seg[RUN_MAX + 2];
+	e.ne = e.nu + count[RUN_MAX + 2];
+	{
+		size_t pos[RUN_MAX + 3];
+		memcpy(pos, e.seg, sizeof pos);
+		for (size_t i = 0; i < sp->n; i++) {
+			if (!cat[i])
+				continue;
+			e.it[pos[cat[i]]++] = tmp[i];
+			if (cat[i] == RUN_MAX + 2 && tmp[i].zone != Z_STRADDLE)
+				e.base[2 * (size_t)tmp[i].bin + (size_t)(-tmp[i].zone - 1)] += 1;
+		}
+	}
+	free(tmp);
+	tmp = NULL;
 	int nt = sp->threads > 0 ? sp->threads : online_processors();
 	if (nt > MAX_THREADS)
 		nt = MAX_THREADS;
@@ -351,7 +487,11 @@ int bc_resample__draws(bc_draw_result *out, const bc_draw_spec *sp, double split
 			rc = oom(err);
 done:
 	free(w);
+	free(tmp);
+	free(cat);
 	free(e.it);
+	free(e.dmin);
+	free(e.dspan);
 	free(e.base);
 	if (rc)
 		bc_resample__draws_free(out);

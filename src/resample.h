@@ -74,6 +74,17 @@ typedef struct bc_draw_result {
 int bc_resample__draws(bc_draw_result *out, const bc_draw_spec *spec, double split, bc_err *err);
 void bc_resample__draws_free(bc_draw_result *r);
 
+/**
+ * The draws' fast path for "runs": an age range [younger, older] whose first
+ * overlapped bin is k0 and that overlaps 2..16 contiguous bins, with older
+ * <= bins[k0].older and younger clear of the last bin's younger bound.
+ * run_length gives that number of bins L (0: not a run); run_bin gives the
+ * bin of an age t in [younger, older] without a branch on t, and must equal
+ * bc_shift__point_bin(bins, nbins, t, 0) (tested).
+ */
+size_t bc_resample__run_length(const bc_shift__bin *bins, size_t nbins, size_t k0, double older, double younger);
+size_t bc_resample__run_bin(const bc_shift__bin *bins, size_t k0, size_t L, double t);
+
 /* ---- depth affinity ------------------------------------------------ */
 
 typedef struct bc_affinity {

@@ -259,12 +259,7 @@ size_t bc_shift__place(const bc_shift__bin *bins, size_t nbins, double top, doub
 	size_t k0 = nbins, k1 = nbins, best = nbins;
 	double total = 0, bestov = -1;
 	if (top == bot) {
-		/* A point age: the bin whose older bound is inclusive; at
-		 * the very youngest edge, the bin ending there. */
-		if (j < nbins && bins[j].older >= top)
-			best = j;
-		else if (j > 0 && bins[j - 1].younger == top)
-			best = j - 1;
+		best = bc_shift__point_bin(bins, nbins, top, j);
 		if (best < nbins) {
 			k0 = best;
 			k1 = best + 1;

@@ -85,6 +85,26 @@ void bc_shift__bins_free(bc_shift__bin *bins, size_t n);
 size_t bc_shift__place(const bc_shift__bin *bins, size_t nbins, double top, double bot,
 		       size_t *k0, size_t *k1, double *total);
 
+/**
+ * The bin of a point age t: the bin whose older bound is inclusive (a bin
+ * holds its older bound, not its younger one); at the very youngest edge,
+ * the bin ending there; `nbins` when t lies in no bin. `j` is a starting
+ * index no greater than that of the first bin whose younger bound lies
+ * below t (0 always works; the search goes on linearly from it).
+ * bc_shift__place uses it for point ages, the resampling draws for every
+ * drawn age, so both follow one rule.
+ */
+static inline size_t bc_shift__point_bin(const bc_shift__bin *bins, size_t nbins, double t, size_t j)
+{
+	while (j < nbins && !(bins[j].younger < t))
+		j++;
+	if (j < nbins && bins[j].older >= t)
+		return j;
+	if (j > 0 && bins[j - 1].younger == t)
+		return j - 1;
+	return nbins;
+}
+
 struct bc_resample;
 
 /** The computed table. Private: resample.c reads the assignment and bins. */

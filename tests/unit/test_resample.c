@@ -446,3 +446,58 @@ TEST(resample_option_errors)
 	o.preservation = "calyx";
 	CHECK_INT(bc_resample__check(&o, &err), BC_EUSAGE);
 }
+
+/* The draws' branch-free bin of a "run" equals shift's point-age rule for
+ * every age in the range, including ages on bin edges and ranges that
+ * start on an edge; ranges across a gap between bins are not runs. */
+TEST(resample_run_fast_path)
+{
+	static char nm[] = "b";
+	bc_shift__bin bins[40];
+	bc_rng g;
+	bc_resample__rng_init(&g, 5, 50, 0);
+	double edge = 300;
+	for (int i = 0; i < 40; i++) {
+		double w = i == 20 ? 0.1 : 0.05 + 10 * bc_resample__uniform(&g);
+		bins[i] = (bc_shift__bin){nm, edge, edge - w};
+		edge -= w;
+		if (i == 30)
+			edge -= 1; /* a gap after bin 30 */
+	}
+	long runs = 0;
+	for (int trial = 0; trial < 20000; trial++) {
+		double older = bins[0].younger + (bins[0].older - bins[0].younger) * bc_resample__uniform(&g) -
+			       (300 - bins[39].younger) * bc_resample__uniform(&g);
+		double younger = older - 30 * bc_resample__uniform(&g);
+		if (trial % 10 == 0)
+			younger = bins[(trial / 10) % 40].younger; /* on an edge */
+		if (younger > older || younger < bins[39].younger)
+			continue;
+		size_t k0 = 0;
+		size_t major = bc_shift__place(bins, 40, older, younger, &k0, NULL, NULL);
+		if (major == 40)
+			continue;
+		size_t L = bc_resample__run_length(bins, 40, k0, older, younger);
+		if (!L)
+			continue;
+		runs++;
+		CHECK(k0 + L <= 31 || k0 > 30); /* never across the gap */
+		for (int k = 0; k < 50; k++) {
+			double u = k == 0 ? 0 : k == 1 ? 1 - 0x1.0p-53 : bc_resample__uniform(&g);
+			double t = older - u * (older - younger);
+			if (k >= 2 && k < 2 + (int)L - 1)
+				t = bins[k0 + (size_t)k - 2].younger; /* exactly on an inner edge */
+			CHECK_MSG(bc_resample__run_bin(bins, k0, L, t) == bc_shift__point_bin(bins, 40, t, 0),
+				"older %.17g younger %.17g t %.17g: run %zu, rule %zu", older, younger, t,
+				bc_resample__run_bin(bins, k0, L, t), bc_shift__point_bin(bins, 40, t, 0));
+		}
+	}
+	CHECK_MSG(runs > 5000, "only %ld runs tested", runs);
+	/* a range starting exactly on bin 4's younger edge reaches bin 5 (the
+	 * edge belongs to the younger bin) */
+	CHECK_INT(bc_resample__run_length(bins, 40, 3, bins[3].older - 0.01, bins[4].younger), 3);
+	CHECK_INT(bc_resample__run_bin(bins, 3, 3, bins[4].younger), 5);
+	CHECK_INT(bc_shift__point_bin(bins, 40, bins[4].younger, 0), 5);
+	/* a range crossing the gap after bin 30 is not a run */
+	CHECK_INT(bc_resample__run_length(bins, 40, 30, bins[30].younger + 0.01, bins[31].older - 0.01), 0);
+}
