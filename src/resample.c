@@ -184,7 +184,7 @@ typedef struct engine {
 	size_t seg[RUN_MAX + 3]; /* seg[L]..seg[L+1]: runs of L bins (L = 2..RUN_MAX); seg[RUN_MAX+1]..seg[RUN_MAX+2]: other drawn */
 	size_t nu, ne;      /* drawn items end at nu; all items end at ne */
 	double *dmin, *dspan; /* depth ranges of the items whose depth is drawn */
-	double *base;       /* nbins x 2: counts of the fixed items */
+	uint32_t *base;     /* nbins x 2: counts of the fixed items */
 	bc_draw_result *out;
 } engine;
 
@@ -196,7 +196,7 @@ typedef struct worker {
 	int started;
 } worker;
 
-static inline void count_item(const engine *e, const item *it, size_t b, bc_rng *r, double *cnt)
+static inline void count_item(const engine *e, const item *it, size_t b, bc_rng *r, uint32_t *cnt)
 {
 	int z = -it->zone - 1;
 	if (it->zone >= 0) {
@@ -204,11 +204,11 @@ static inline void count_item(const engine *e, const item *it, size_t b, bc_rng 
 		z = bc_shift__zone(d, d, &e->split, 1); /* a point depth never straddles */
 	}
 	if (z == 0 || z == 1)
-		cnt[2 * b + (size_t)z] += 1;
+		cnt[2 * b + (size_t)z]++;
 }
 
 /* Any item: the bin by shift's own point-age rule. */
-static inline void draw_item(const engine *e, const item *it, bc_rng *r, double *cnt)
+static inline void draw_item(const engine *e, const item *it, bc_rng *r, uint32_t *cnt)
 {
 	const bc_draw_spec *sp = e->sp;
 	size_t b;
@@ -240,7 +240,7 @@ static inline size_t run_bin(const bc_shift__bin *bins, size_t k, size_t L, doub
 
 size_t bc_resample__run_bin(const bc_shift__bin *bins, size_t k, size_t L, double t) { return run_bin(bins, k, L, t); }
 
-static inline void draw_run(const engine *e, const item *it, size_t L, bc_rng *r, double *cnt)
+static inline void draw_run(const engine *e, const item *it, size_t L, bc_rng *r, uint32_t *cnt)
 {
 	size_t k = (size_t)(-(it->bin + 1));
 	double t = it->older - rng_uniform(r) * it->span;
@@ -266,7 +266,7 @@ size_t bc_resample__run_length(const bc_shift__bin *bins, size_t nb, size_t k0, 
 }
 
 /* Per-draw statistics, computed exactly as shift.c's across-bin tests. */
-static void draw_stats(const engine *e, size_t d, const double *cnt, double *sv, double *nv, double *xv, size_t *idx)
+static void draw_stats(const engine *e, size_t d, const uint32_t *cnt, double *sv, double *nv, double *xv, size_t *idx)
 {
 	const bc_draw_spec *sp = e->sp;
 	bc_draw_result *o = e->out;
@@ -274,11 +274,11 @@ static void draw_stats(const engine *e, size_t d, const double *cnt, double *sv,
 	size_t k = 0;
 	double stot = 0, ntot = 0;
 	for (size_t b = 0; b < sp->nbins; b++) {
-		double m = cnt[2 * b] + cnt[2 * b + 1];
-		frac[b] = m > 0 ? cnt[2 * b + 1] / m : NAN;
+		double m = (double)cnt[2 * b] + (double)cnt[2 * b + 1];
+		frac[b] = m > 0 ? (double)cnt[2 * b + 1] / m : NAN;
 		if (!(m > 0))
 			continue;
-		sv[k] = cnt[2 * b + 1];
+		sv[k] = (double)cnt[2 * b + 1];
 		nv[k] = m;
 		xv[k] = -(sp->bins[b].older + sp->bins[b].younger) / 2;
 		idx[k++] = b;
@@ -301,20 +301,29 @@ static void draw_stats(const engine *e, size_t d, const double *cnt, double *sv,
 }
 
 /* One draw over the items, each `mult[j]` times (mult NULL: drawn items once, fixed ones from base). */
-static void one_draw(const engine *e, bc_rng *r, const uint32_t *mult, double *cnt)
+static void one_draw(const engine *e, bc_rng *r, const uint32_t *mult, uint32_t *cnt)
 {
 	size_t nb = e->sp->nbins;
 	if (!mult)
 		memcpy(cnt, e->base, 2 * nb * sizeof *cnt);
 	else
 		memset(cnt, 0, 2 * nb * sizeof *cnt);
+	if (!mult) {
+		for (size_t j = e->seg[2]; j < e->seg[3]; j++)
+			draw_run(e, &e->it[j], 2, r, cnt); /* the commonest run, with a constant length */
+		for (size_t L = 3; L <= RUN_MAX; L++)
+			for (size_t j = e->seg[L]; j < e->seg[L + 1]; j++)
+				draw_run(e, &e->it[j], L, r, cnt);
+		for (size_t j = e->seg[RUN_MAX + 1]; j < e->nu; j++)
+			draw_item(e, &e->it[j], r, cnt);
+		return;
+	}
 	for (size_t L = 2; L <= RUN_MAX; L++)
 		for (size_t j = e->seg[L]; j < e->seg[L + 1]; j++)
-			for (uint32_t c = 0, n = mult ? mult[j] : 1; c < n; c++)
+			for (uint32_t c = 0; c < mult[j]; c++)
 				draw_run(e, &e->it[j], L, r, cnt);
-	size_t end = mult ? e->ne : e->nu;
-	for (size_t j = e->seg[RUN_MAX + 1]; j < end; j++)
-		for (uint32_t c = 0, n = mult ? mult[j] : 1; c < n; c++)
+	for (size_t j = e->seg[RUN_MAX + 1]; j < e->ne; j++)
+		for (uint32_t c = 0; c < mult[j]; c++)
 			draw_item(e, &e->it[j], r, cnt);
 }
 
@@ -324,7 +333,7 @@ static void *work(void *arg)
 	const engine *e = w->e;
 	const bc_draw_spec *sp = e->sp;
 	size_t nb = sp->nbins;
-	double *cnt = bc__malloc(2 * nb * sizeof *cnt);
+	uint32_t *cnt = bc__malloc(2 * nb * sizeof *cnt);
 	double *sv = bc__malloc(nb * sizeof *sv), *nv = bc__malloc(nb * sizeof *nv), *xv = bc__malloc(nb * sizeof *xv);
 	size_t *idx = bc__malloc(nb * sizeof *idx);
 	uint32_t *mult = sp->bootstrap ? bc__malloc((e->ne ? e->ne : 1) * sizeof *mult) : NULL;
@@ -452,7 +461,7 @@ int bc_resample__draws(bc_draw_result *out, const bc_draw_spec *sp, double split
 				continue;
 			e.it[pos[cat[i]]++] = tmp[i];
 			if (cat[i] == RUN_MAX + 2 && tmp[i].zone != Z_STRADDLE)
-				e.base[2 * (size_t)tmp[i].bin + (size_t)(-tmp[i].zone - 1)] += 1;
+				e.base[2 * (size_t)tmp[i].bin + (size_t)(-tmp[i].zone - 1)]++;
 		}
 	}
 	free(tmp);

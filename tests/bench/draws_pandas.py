@@ -4,7 +4,7 @@
 range straddling 200 m; split at 200 m; point-age rule: a bin holds its older
 bound) written the straightforward way with pandas/numpy, for the per-draw
 speed comparison in bench_draws.sh. Loads once, then times DRAWS draws and
-prints the mean seconds per draw and each bin's mean frac_deep over them."""
+prints the mean wall and CPU seconds per draw and each bin's mean frac_deep over them."""
 import sqlite3
 import sys
 import time
@@ -36,10 +36,12 @@ def one_draw():
 
 
 one_draw()  # warm-up
-start = time.perf_counter()
+start, cpu = time.perf_counter(), time.process_time()
 fr = [one_draw() for _ in range(draws)]
 per = (time.perf_counter() - start) / draws
+per_cpu = (time.process_time() - cpu) / draws
 print(f"seconds_per_draw {per:.6f}")
+print(f"cpu_seconds_per_draw {per_cpu:.6f}")
 mean = pd.concat(fr, axis=1).mean(axis=1)
 for k, v in mean.items():
     print(f"bin {k * width:g} {v:.6f}")
