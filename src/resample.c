@@ -724,9 +724,11 @@ static int run_draws(bc_shift *s, bc_err *err)
 	if (mode < nb && mode > 0) {
 		t->draw_break_mode_share = (double)hist[mode] / (double)nd;
 		t->draw_break_after = s->out[mode].name;
-		/* the older neighbour with data in that draw may lie further back;
-		 * name the bin just before the boundary */
-		t->draw_break_before = s->out[mode - 1].name;
+		/* name the nearest older bin with data, as the observed breakpoint does */
+		size_t before = mode - 1;
+		while (before > 0 && !(s->out[before].n_shallow + s->out[before].n_deep > 0))
+			before--;
+		t->draw_break_before = s->out[before].name;
 	}
 	free(tmp);
 	free(hist);
@@ -1340,7 +1342,9 @@ void bc_resample__methods(const bc_shift *s, bc_buf *b)
 	if (!rs)
 		return;
 	if (rs->has_draws) {
-		bc__buf_printf(b, "Age and depth uncertainty were propagated by %zu resampling draws: in each draw every occurrence", o->draws);
+		bc__buf_printf(b, "Age and depth uncertainty were propagated by %zu resampling draws (seed %llu; one xoshiro256** stream per draw, Blackman and Vigna 2021, "
+			"seeded by splitmix64, Steele et al. 2014, so that results do not depend on the number of threads): in each draw every occurrence",
+			o->draws, (unsigned long long)o->seed);
 		if (o->resample & BC_RESAMPLE_AGE)
 			bc__buf_puts(b, " whose age range was not inside one bin received an age drawn uniformly within its range, and so a bin");
 		if (o->resample == (BC_RESAMPLE_AGE | BC_RESAMPLE_DEPTH))
@@ -1362,7 +1366,7 @@ void bc_resample__methods(const bc_shift *s, bc_buf *b)
 	}
 	if (rs->has_refw)
 		bc__buf_printf(b, "To keep a few prolific publications from driving the result, each reference present in a bin was given equal weight (its occurrences sharing it equally; occurrences without a reference formed one unit), "
-			"and the interval of this reference-weighted deep share comes from %zu bootstrap resamples of the references. ", rs->replicates);
+			"and the interval of this reference-weighted deep share comes from %zu bootstrap resamples of the references (quantiles by linear interpolation, Hyndman and Fan 1996 type 7). ", rs->replicates);
 	if (rs->has_bg) {
 		bc__buf_printf(b, "Depth affinity was tested against the sampled background, all occurrences with a palaeodepth in the same bins%s with the selected occurrences %s, "
 			"by a one-sided binomial test of the selection's deep count against the %s background deep share",

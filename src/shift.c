@@ -1540,6 +1540,43 @@ static const char REFERENCES[] =
 	"Newcombe RG (1998b) Interval estimation for the difference between independent proportions: comparison of eleven methods. Statistics in Medicine 17(8):873-890.\n"
 	"Wilson EB (1927) Probable inference, the law of succession, and statistical inference. Journal of the American Statistical Association 22(158):209-212.\n";
 
+static int cmp_line(const void *a, const void *b) { return strcmp(*(char *const *)a, *(char *const *)b); }
+
+/* Sorts the newline-terminated lines of text[0..n) in place, so the
+ * references of resample.c fall into the alphabetical list. */
+static int sort_lines(char *text, size_t n)
+{
+	size_t count = 0;
+	for (size_t i = 0; i < n; i++)
+		count += text[i] == '\n';
+	char **line = bc__malloc((count ? count : 1) * sizeof *line);
+	char *copy = bc__malloc(n + 1);
+	if (!line || !copy) {
+		free(line);
+		free(copy);
+		return -1;
+	}
+	memcpy(copy, text, n);
+	copy[n] = '\0';
+	size_t k = 0;
+	for (char *p = copy; k < count && *p; k++) {
+		line[k] = p;
+		p = strchr(p, '\n');
+		*p++ = '\0';
+	}
+	qsort(line, k, sizeof *line, cmp_line);
+	size_t at = 0;
+	for (size_t i = 0; i < k; i++) {
+		size_t len = strlen(line[i]);
+		memcpy(text + at, line[i], len);
+		text[at + len] = '\n';
+		at += len + 1;
+	}
+	free(line);
+	free(copy);
+	return 0;
+}
+
 int bc_shift_write_methods(const bc_shift *s, FILE *f, bc_err *err)
 {
 	const bc_shift_options *o = &s->opts;
@@ -1608,9 +1645,12 @@ int bc_shift_write_methods(const bc_shift *s, FILE *f, bc_err *err)
 		bc__buf_puts(&b, ". ");
 	bc_resample__methods(s, &b);
 	bc__buf_puts(&b, CAUTION "\n\n");
+	size_t list_at = b.len + strlen("References\n\n");
 	bc__buf_puts(&b, REFERENCES);
 	bc_resample__references(s, &b);
 	int rc = BC_OK;
+	if (b.data && sort_lines(b.data + list_at, b.len - list_at))
+		rc = oom(err);
 	if (!b.data)
 		rc = oom(err);
 	else if (fwrite(b.data, 1, b.len, f) != b.len)
