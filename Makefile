@@ -39,7 +39,11 @@ UNIT_SRC := $(sort $(wildcard tests/unit/*.c))
 UNIT_OBJ := $(UNIT_SRC:tests/unit/%.c=$(B)/unit/%.o)
 
 .PHONY: all deps test test-unit test-san demo bench fuzz install uninstall clean check-header
-all: $(B)/libbathychron.a $(B)/libbathychron.so $(B)/bathychron
+all: $(B)/libbathychron.a $(B)/libbathychron.so $(B)/bathychron $(B)/bathychron.1
+
+# The man page is made from the program's own --help texts.
+$(B)/bathychron.1: $(B)/bathychron src/gen/manpage.sh
+	@sh src/gen/manpage.sh $(B)/bathychron > $@
 
 deps:
 	@sh tests/deps.sh "$(PKGS)" "$(DEB_DEV) $(DEB_TOOLS)"
@@ -121,7 +125,7 @@ install: all
 	ln -sf libbathychron.so.0 $(DESTDIR)$(PREFIX)/lib/libbathychron.so
 	install -m 644 src/bathychron.h $(DESTDIR)$(PREFIX)/include/bathychron.h
 	sed -e 's|@PREFIX@|$(PREFIX)|' -e 's|@VERSION@|$(VERSION)|' src/bathychron.pc.in > $(DESTDIR)$(PREFIX)/lib/pkgconfig/bathychron.pc
-	install -m 644 doc/bathychron.1 $(DESTDIR)$(PREFIX)/share/man/man1/bathychron.1
+	install -m 644 $(B)/bathychron.1 $(DESTDIR)$(PREFIX)/share/man/man1/bathychron.1
 	install -m 644 doc/bathychron.bash-completion $(DESTDIR)$(PREFIX)/share/bash-completion/completions/bathychron
 
 uninstall:

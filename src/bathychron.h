@@ -267,8 +267,9 @@ const char *bc_age_status_name(bc_age_status status);
 /** One resolved age. older_ma > younger_ma (or equal for a point age). */
 typedef struct bc_age {
 	bc_age_status status;
-	char from[128];        /* chart interval name of the older end ("" for numeric) */
-	char to[128];          /* chart interval name of the younger end */
+	char from[128];        /* chart interval name of the older end; for numeric ages the finest
+	                          chart interval holding that number ("" if none) */
+	char to[128];          /* chart interval name of the younger end (same rule) */
 	double older_ma;
 	double younger_ma;
 	int uncertain;         /* a "?", "cf.", "probably" mark was present */
@@ -279,11 +280,28 @@ typedef struct bc_resolver bc_resolver;
 
 /**
  * A resolver over `chart` (borrowed: it must outlive the resolver) with the
- * shipped alias table (reference/age-aliases.tsv) loaded.
+ * shipped alias table (reference/age-aliases.tsv) loaded. Rules and
+ * conventions: doc/age-resolution.md. A resolver caches its answers, so it
+ * is not safe to share between threads: use one per thread. Free it with
+ * bc_resolver_free().
  */
 int bc_resolver_new(bc_resolver **out, const bc_chart *chart, bc_err *err);
-/** Adds or overrides aliases from a TSV file of the same form as the shipped one. */
+/**
+ * Adds or overrides aliases from a TSV file of the same form as the shipped
+ * one (header row with at least alias, older, younger, source; '#' lines
+ * are comments; a later row for the same alias wins). Every older/younger
+ * name must resolve in the resolver's chart: otherwise BC_EINVALID with
+ * "FILE:LINE: field: what is wrong" and nothing from the file is kept.
+ */
 int bc_resolver_load_aliases(bc_resolver *r, const char *path, bc_err *err);
+/** Number of aliases in use (shipped plus loaded). */
+size_t bc_resolver_alias_count(const bc_resolver *r);
+/**
+ * Number of shipped alias rows skipped because a name they map to is not in
+ * this chart (a chart release that names an interval differently).
+ * `first` (may be NULL) gets the first such alias text, borrowed, or "".
+ */
+size_t bc_resolver_aliases_skipped(const bc_resolver *r, const char **first);
 void bc_resolver_free(bc_resolver *r);
 /** The chart in use. Borrowed. */
 const bc_chart *bc_resolver_chart(const bc_resolver *r);
@@ -307,6 +325,103 @@ int bc_age_resolve_pair(bc_resolver *r, const char *earliest, const char *latest
 /* ------------------------------------------------------------------ */
 
 /* == ingest section == */
+
+/**
+ * Age disagreement tolerance: when a row gives both age text and numbers
+ * (earliest/latestChronometricAge), the numbers are stored; if they reach
+ * outside the range the text resolves to by more than this many Myr (at
+ * either end), the row is stored with age_conflict = 1 and `check` reports
+ * it. The same test compares a stage with the series or system also given.
+ */
+#define BC_AGE_CONFLICT_TOLERANCE_MYR 0.5
+
+/** Called once per rejected row with "FILE:LINE: field: reason". */
+typedef void (*bc_import_report_fn)(void *ctx, const char *message);
+/** Called now and then with bytes read so far and the input size (0 if unknown). */
+typedef void (*bc_import_progress_fn)(void *ctx, uint64_t done, uint64_t total);
+
+/** Options of bc_import_file. Initialise with BC_IMPORT_OPTIONS_INIT. */
+typedef struct bc_import_options {
+	const char *map;           /* column map: a shipped name (import/maps/NAME.map) or a file; NULL = none */
+	const char *environments;  /* TSV adding to / overriding reference/environments.tsv; NULL = shipped only */
+	const char *preservation;  /* TSV adding to / overriding reference/preservation.tsv */
+	const char *timescale;     /* stored chart to resolve ages with; NULL = the database's default */
+	const char *display_name;  /* file name used in messages and in the batch; NULL = the path */
+	int dry_run;               /* validate and count, write nothing */
+	int keep_guard_quotes;     /* 1 = keep a leading ' before = + - @ tab CR (see export) */
+	bc_import_report_fn report;
+	bc_import_progress_fn progress;
+	void *ctx;                 /* passed to report and progress */
+} bc_import_options;
+#define BC_IMPORT_OPTIONS_INIT {NULL, NULL, NULL, NULL, NULL, 0, 0, NULL, NULL, NULL}
+
+/** Counts of one import. n_read = n_stored + n_quarantined always. */
+typedef struct bc_import_result {
+	long long batch_id;        /* the import_batches row; 0 for a dry run */
+	long long n_read;          /* data rows read (all-empty rows are not rows) */
+	long long n_stored;
+	long long n_quarantined;
+	long long n_age_conflicts; /* stored rows flagged age_conflict */
+	long long n_unguarded;     /* cells whose export guard quote was removed */
+	char timescale[128];       /* chart used */
+} bc_import_result;
+
+/**
+ * Imports one CSV/TSV occurrence file into `db` as ONE transaction and one
+ * import_batches row. Rows that cannot be used go to the quarantine table
+ * (and to opts->report); they never stop the import. Returns BC_OK when the
+ * file was read (even with quarantined rows; see `out`); BC_EINVALID for a
+ * file that cannot be read as a whole (encoding, empty, bad header, bad
+ * map), with "FILE:LINE: field: what"; BC_EEXISTS when identical content
+ * was imported before (the message names that batch and its date); other
+ * codes for environment failures. Nothing is written unless BC_OK and not
+ * a dry run.
+ */
+int bc_import_file(bc_import_result *out, bc_db *db, const char *path, const bc_import_options *opts, bc_err *err);
+
+/** Counts of a references load. */
+typedef struct bc_refs_result {
+	long long batch_id;
+	long long n_entries, n_new, n_updated, n_bad;
+} bc_refs_result;
+
+/**
+ * Loads a BibTeX file into the references table as one batch. A key seen
+ * before is updated in place (the newest file wins) and counted in
+ * n_updated. Bad entries are skipped, counted in n_bad and passed to
+ * `report` as "FILE:LINE: key: what"; the rest are stored. Identical
+ * content loaded before gives BC_EEXISTS.
+ */
+int bc_refs_load(bc_refs_result *out, bc_db *db, const char *path, bc_import_report_fn report, void *ctx, bc_err *err);
+
+/** What `check` looks at. Initialise with BC_CHECK_OPTIONS_INIT. */
+typedef struct bc_check_options {
+	bc_format format;          /* csv, tsv or json */
+	int quarantine;            /* 1 = write the quarantined rows as CSV instead of the report */
+} bc_check_options;
+#define BC_CHECK_OPTIONS_INIT {BC_FORMAT_TSV, 0}
+
+/**
+ * Writes the data-quality report to `out`: one row per problem with
+ * columns problem, batch, file, line, key, detail. Problems: quarantined
+ * rows, unlinked references, age conflicts, probable duplicate
+ * occurrences, localities given different coordinates; plus one
+ * informational row counting occurrences without coordinates.
+ * `*n_problems` gets the number of problem rows (informational rows not
+ * counted). With opts->quarantine, writes the quarantined rows as CSV:
+ * quarantine_batch, quarantine_file, quarantine_line, quarantine_field,
+ * quarantine_reason, then the row's own columns, ready to fix and import.
+ */
+int bc_check_run(bc_db *db, const bc_check_options *opts, FILE *out, long long *n_problems, bc_err *err);
+
+/**
+ * Writes the stored occurrences as CSV: the design.md input columns, then
+ * the extra columns kept at import. Text cells starting with = + - @ tab or
+ * CR get a leading single quote (spreadsheet formula-injection guard,
+ * OWASP "CSV Injection"); numeric columns are never touched; import removes
+ * exactly that quote again and says how many it removed.
+ */
+int bc_export_csv(bc_db *db, FILE *out, long long *n_rows, bc_err *err);
 
 /* == end of ingest section == */
 
@@ -570,6 +685,128 @@ int bc_shift_write_taphonomy(const bc_shift *s, FILE *f, bc_format format, bc_er
 /* == end of shift section == */
 
 /* ------------------------------------------------------------------ */
+/* Depth ranges through time (ranges.c)                                */
+/* ------------------------------------------------------------------ */
+
+/* == ranges section == */
+
+/*
+ * Per taxon, its stratigraphic range in each depth zone: when it was
+ * first and last found shallow and deep, whether the shallow range ends
+ * before, overlaps or outlasts the deep one given the age ranges, and a
+ * confidence interval on each range end from the number of horizons
+ * (Strauss & Sadler 1989; Marshall 1990). doc/ranges.md states every rule.
+ */
+
+/** The taxonomic level whose names are compared. */
+typedef enum bc_ranges_rank {
+	BC_RANGES_GENUS = 0, /* the genus column, else the first word of scientificName */
+	BC_RANGES_FAMILY,
+	BC_RANGES_ORDER,
+	BC_RANGES_SPECIES    /* scientificName as stored */
+} bc_ranges_rank;
+
+/**
+ * Options of bc_ranges_compute. `sel` carries the selection, --timescale
+ * (chart interval names), the zoning and the confidence level exactly as
+ * for shift; its binning fields are not used. Strings are borrowed.
+ */
+typedef struct bc_ranges_options {
+	bc_shift_options sel;
+	bc_ranges_rank rank;
+} bc_ranges_options;
+
+#define BC_RANGES_OPTIONS_INIT { BC_SHIFT_OPTIONS_INIT, BC_RANGES_GENUS }
+
+/** Sets "rank" (genus, family, order, scientificName/species), or any option bc_shift_option_set knows. */
+int bc_ranges_option_set(bc_ranges_options *opts, const char *name, const char *value, bc_err *err);
+
+/**
+ * One taxon's occurrences in one depth zone. The range's older end (first
+ * occurrence) lies between first_younger_ma and first_older_ma: the
+ * largest younger bound and the largest older bound among the zone's
+ * occurrences; its younger end (last occurrence) between last_younger_ma
+ * (smallest younger bound) and last_older_ma (smallest older bound). All
+ * NaN when n is 0.
+ */
+typedef struct bc_range_zone {
+	size_t n;
+	size_t n_references, n_localities;
+	size_t n_horizons;           /* distinct occurrence midpoint ages */
+	double first_older_ma, first_younger_ma;
+	const char *first_interval;  /* chart intervals of those two ages, "Campanian" or "Santonian-Campanian"; "" if none. Borrowed. */
+	double last_older_ma, last_younger_ma;
+	const char *last_interval;
+	double ci_extension;         /* Marshall (1990) r = (1 - C)^(-1/(H-1)) - 1, C = level; NaN when H < 2 */
+	double first_ci_ma;          /* oldest midpoint + r * (observed range of midpoints) */
+	double last_ci_ma;           /* youngest midpoint - r * range, not below 0 */
+} bc_range_zone;
+
+/** How the shallow range's end stands to the deep range (bit set of the possible ones). */
+enum {
+	BC_RANGE_ENDS_BEFORE = 1, /* the last shallow occurrence is older than the first deep one */
+	BC_RANGE_OVERLAPS = 2,    /* it lies within the deep range */
+	BC_RANGE_OUTLASTS = 4     /* it is younger than the last deep one */
+};
+
+typedef struct bc_range_taxon {
+	const char *taxon;           /* borrowed */
+	size_t n;                    /* every counted occurrence of the taxon, straddling included */
+	size_t n_straddle;           /* depth range crossing the first boundary: in no zone */
+	size_t n_references, n_localities;
+	bc_range_zone shallow, deep; /* at the first boundary */
+	const bc_range_zone *zones;  /* with --zones: n_zones + 1 zones, shallowest first; else NULL. Borrowed. */
+	unsigned relation;           /* BC_RANGE_* bits the age ranges allow; 0 unless both shallow and deep occur */
+	int retreat_supported;       /* 1: the shallow range certainly ends first and its end's confidence
+				      * limit is still older than the deep range's last occurrence; 0: it ends
+				      * first but the limit reaches the deep end (or one horizon only);
+				      * -1: does not apply */
+} bc_range_taxon;
+
+typedef struct bc_ranges_summary {
+	size_t n_selected;
+	size_t n_outside_region, n_no_coordinates;
+	size_t n_no_name;            /* no name at the chosen rank */
+	size_t n_no_depth;
+	size_t n_used;
+	size_t n_taxa;
+	size_t n_shallow_only, n_deep_only, n_straddle_only, n_both;
+	size_t n_ends_before, n_overlaps, n_outlasts, n_unresolved; /* taxa with one certain relation, or several possible */
+	size_t n_retreat_supported, n_retreat_weak;
+	char data_sha256[65];        /* doc/ranges.md gives the byte layout */
+} bc_ranges_summary;
+
+typedef struct bc_ranges bc_ranges;
+struct bc_plot_options; /* the plot section's bc_plot_options */
+
+/**
+ * Selects, zones and summarises per taxon. A selection that matches no
+ * occurrence, or leaves none with a palaeodepth and a name at the rank,
+ * fails with BC_EINVALID. The result is the caller's; free it with
+ * bc_ranges_free().
+ */
+int bc_ranges_compute(bc_ranges **out, bc_db *db, const bc_ranges_options *opts, bc_err *err);
+void bc_ranges_free(bc_ranges *r);
+
+/** Taxa in name order (byte order of UTF-8). Borrowed from `r`. */
+size_t bc_ranges_count(const bc_ranges *r);
+const bc_range_taxon *bc_ranges_taxon_at(const bc_ranges *r, size_t i);
+const bc_ranges_summary *bc_ranges_summary_get(const bc_ranges *r);
+
+/** Writes the table with its summary and methods stamp in `format`. */
+int bc_ranges_write(const bc_ranges *r, FILE *f, bc_format format, bc_err *err);
+
+/**
+ * Draws one row per taxon: its shallow and deep ranges over the timescale
+ * bar of the chart used, sorted by the last shallow occurrence (see
+ * bc_plot_ranges; the options are the plot section's bc_plot_options).
+ * `opt->caption` NULL gives a caption in words.
+ */
+int bc_ranges_plot(const char *path, const bc_ranges *r, const struct bc_plot_options *opt, bc_err *err);
+
+/* == end of ranges section == */
+
+/* ------------------------------------------------------------------ */
 /* Figures (plot.c)                                                    */
 /* ------------------------------------------------------------------ */
 
@@ -643,6 +880,51 @@ int bc_plot_shift(const char *path, const bc_plot_bin *bins, size_t n, const bc_
  * from a program that uses fontconfig for nothing else. Safe to call twice.
  */
 void bc_plot_cleanup(void);
+
+/**
+ * The default caption of a shift figure, in words: the selection, the
+ * binning and span rule, the zoning, the chart, how many occurrences were
+ * counted and why others were left out. `opts` are the options `s` was
+ * computed with; `chart_name` names the chart of the timescale bar (NULL:
+ * none). `*out` is the caller's; free it with free().
+ */
+int bc_plot_shift_caption(char **out, const bc_shift *s, const bc_shift_options *opts, const char *chart_name,
+			  bc_err *err);
+
+/**
+ * Draws a computed shift table: its bins one to one (has_frac when a bin
+ * has shallow or deep occurrences; no resampling band yet), the interval
+ * level of `opts`, and, when `opt->caption` is NULL, the caption of
+ * bc_plot_shift_caption(). Otherwise as bc_plot_shift(). Nothing is kept
+ * from the arguments.
+ */
+int bc_plot_shift_table(const char *path, const bc_shift *s, const bc_shift_options *opts, const bc_chart *chart,
+			const bc_plot_options *opt, bc_err *err);
+
+/** One zone's range for bc_plot_ranges. Ages in Ma; NaN (n 0) when the taxon has none there. */
+typedef struct bc_plot_zone_range {
+	double n;
+	double first_older_ma, first_younger_ma; /* the range's older end lies between these */
+	double last_older_ma, last_younger_ma;   /* its younger end lies between these */
+	double last_ci_ma;                       /* confidence limit on the younger end; NaN: none */
+} bc_plot_zone_range;
+
+typedef struct bc_plot_taxon_range {
+	const char *label;                       /* borrowed */
+	bc_plot_zone_range shallow, deep;
+} bc_plot_taxon_range;
+
+/**
+ * Draws one row per taxon, a shallow and a deep bar each: solid where the
+ * taxon certainly lived in the zone, tinted where the age ranges allow,
+ * a tick at the confidence limit on the younger end; counts at the right;
+ * the time axis and the timescale bar below (as in bc_plot_shift). Rows are
+ * sorted by the last shallow occurrence, the earliest-ending on top; taxa
+ * without shallow occurrences follow, by their deep range's end. `opt`
+ * as for bc_plot_shift (level names the confidence limit in the legend).
+ */
+int bc_plot_ranges(const char *path, const bc_plot_taxon_range *taxa, size_t n, const bc_chart *chart,
+		   const bc_plot_options *opt, bc_err *err);
 
 /* == end of plot section == */
 

@@ -31,6 +31,7 @@ typedef struct meta {
 struct bc_table {
 	char *rows_name;
 	char *caption;
+	char *tests_title; /* md heading of the tests section; NULL: "Tests across bins" */
 	col *cols;
 	size_t ncols, capcols;
 	cell *cells; /* row-major, nrows x ncols */
@@ -70,6 +71,7 @@ void bc_output__table_free(bc_table *t)
 	free(t->meta);
 	free(t->rows_name);
 	free(t->caption);
+	free(t->tests_title);
 	free(t);
 }
 
@@ -148,6 +150,16 @@ void bc_output__set_num(bc_table *t, size_t c, double v)
 	cell *x = last_cell(t, c);
 	if (x)
 		x->v = v;
+}
+
+int bc_output__set_tests_title(bc_table *t, const char *title, bc_err *err)
+{
+	char *s = bc__strdup(title ? title : "");
+	if (!s)
+		return oom(err);
+	free(t->tests_title);
+	t->tests_title = s;
+	return BC_OK;
 }
 
 int bc_output__set_caption(bc_table *t, const char *caption, bc_err *err)
@@ -415,7 +427,7 @@ static int write_md(const bc_table *t, bc_buf *b)
 			if ((int)m->sec != s)
 				continue;
 			if (first) {
-				rc = bc__buf_printf(b, "\n**%s**\n\n", titles[s]);
+				rc = bc__buf_printf(b, "\n**%s**\n\n", s == BC_META_TESTS && t->tests_title ? t->tests_title : titles[s]);
 				first = 0;
 			}
 			bc_buf v = {0};

@@ -50,6 +50,9 @@ size_t bc_output__row_count(const bc_table *t);
 int bc_output__set_text(bc_table *t, size_t col, const char *text, bc_err *err);
 void bc_output__set_num(bc_table *t, size_t col, double v);
 
+/** The md heading of the tests section (default "Tests across bins"). Copied. */
+int bc_output__set_tests_title(bc_table *t, const char *title, bc_err *err);
+
 /** The LaTeX caption (plain text; escaped on output). Copied. */
 int bc_output__set_caption(bc_table *t, const char *caption, bc_err *err);
 

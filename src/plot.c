@@ -67,6 +67,11 @@ typedef struct plot {
 	plot_lines title, ylab, caption;
 	char *caption_text;
 	double left_labels_w;   /* y tick label column width */
+	const bc_plot_taxon_range *taxa; /* the ranges figure (bc_plot_ranges); NULL for the shift figure */
+	size_t ntaxa;
+	size_t *torder;         /* taxa in drawing order, top first */
+	double row_h;           /* height of one taxon's row */
+	double count_w;         /* the right column of counts */
 } plot;
 
 /* ---- small helpers ---------------------------------------------------- */
@@ -468,7 +473,7 @@ static void plot_bar_row(cairo_t *cr, const plot *p, bc_plot__box row, bc_rank r
 
 /* ---- legend (measured and drawn by the same code) ---------------------- */
 
-enum { LEG_POINT, LEG_HOLLOW, LEG_ERRBAR, LEG_BAND, LEG_SWATCH };
+enum { LEG_POINT, LEG_HOLLOW, LEG_ERRBAR, LEG_BAND, LEG_SWATCH, LEG_TICK, LEG_TINT };
 
 typedef struct plot_leg_item {
 	int kind;
@@ -479,6 +484,15 @@ typedef struct plot_leg_item {
 static size_t plot_legend_items(const plot *p, plot_leg_item *it)
 {
 	size_t k = 0;
+	if (p->taxa) {
+		it[k++] = (plot_leg_item){LEG_SWATCH, OI_SKY, "Shallow"};
+		it[k++] = (plot_leg_item){LEG_SWATCH, OI_BLUE, "Deep"};
+		it[k++] = (plot_leg_item){LEG_TINT, OI_BLUE, "Allowed by the age ranges"};
+		plot_leg_item t = {LEG_TICK, 0x000000u, ""};
+		snprintf(t.text, sizeof t.text, "%g %% limit on the last occurrence", 100.0 * p->o.level);
+		it[k++] = t;
+		return k;
+	}
 	if (p->any_frac) {
 		it[k++] = (plot_leg_item){LEG_POINT, OI_BLUE, "Deep share"};
 		plot_leg_item e = {LEG_ERRBAR, 0x000000u, ""};
@@ -557,6 +571,23 @@ static double plot_legend(cairo_t *cr, const plot *p, double x, double y, double
 			case LEG_ERRBAR:
 				plot_errbar(cr, mx, my - 3.2, my + 3.2, 1.5);
 				break;
+			case LEG_TINT:
+				cairo_rectangle(cr, cx + 1.25, my - 2.75, glyph - 2.5, 5.5);
+				plot_rgb(cr, plot_tint(it[i].colour, 0.35));
+				cairo_fill_preserve(cr);
+				plot_rgb(cr, it[i].colour);
+				cairo_set_line_width(cr, 0.5);
+				cairo_stroke(cr);
+				break;
+			case LEG_TICK:
+				plot_rgb(cr, 0x000000u);
+				cairo_set_line_width(cr, LINE_ERR);
+				cairo_move_to(cr, cx + 1.0, my);
+				cairo_line_to(cr, cx + glyph - 1.0, my);
+				cairo_move_to(cr, cx + 1.0, my - 2.5);
+				cairo_line_to(cr, cx + 1.0, my + 2.5);
+				cairo_stroke(cr);
+				break;
 			case LEG_BAND:
 				cairo_rectangle(cr, cx, my - 3.0, glyph, 6.0);
 				plot_rgb(cr, plot_tint(OI_ORANGE, 0.4));
@@ -611,22 +642,21 @@ static void plot_sort(plot *p)
 static void plot_free(plot *p)
 {
 	free(p->order);
+	free(p->torder);
 	free(p->caption_text);
 	plot_lines_free(&p->title);
 	plot_lines_free(&p->ylab);
 	plot_lines_free(&p->caption);
 }
 
-/* Fills p->g and everything else the drawing needs; `cr` only measures. */
-static int plot_layout(plot *p, cairo_t *cr, const bc_plot_bin *bins, size_t n, const bc_chart *chart,
-		       const bc_plot_options *opt, bc_err *err)
+static int plot_bottom_layout(plot *p, cairo_t *cr, double y, double left, bc_err *err);
+
+/* Clears `p` and takes the options both figures share. */
+static int plot_begin(plot *p, const bc_plot_options *opt, const bc_chart *chart, bc_err *err)
 {
-	int rc;
 	memset(p, 0, sizeof *p);
 	bc_plot_options def = BC_PLOT_OPTIONS_INIT;
 	p->o = opt ? *opt : def;
-	p->bins = bins;
-	p->n = n;
 	p->chart = chart;
 	if (!(p->o.width_mm >= 50 && p->o.width_mm <= 500))
 		return bc_err_set(err, BC_EUSAGE, "plot: width %g mm is outside 50..500 mm (85 single column, 180 double)", p->o.width_mm);
@@ -636,6 +666,58 @@ static int plot_layout(plot *p, cairo_t *cr, const bc_plot_bin *bins, size_t n, 
 		return bc_err_set(err, BC_EUSAGE, "plot: confidence level %g is not between 0 and 1", p->o.level);
 	if (!(p->o.few >= 0))
 		p->o.few = 0;
+	p->g.older_right = p->o.older_right;
+	p->g.width = p->o.width_mm * PT_PER_MM;
+	return BC_OK;
+}
+
+/* Time ticks for g->ma_lo..ma_hi over g->main.w: about one per 14 mm,
+ * then widened until the labels clear each other. */
+static void plot_time_ticks(plot *p, cairo_t *cr)
+{
+	const bc_plot__geom *g = &p->g;
+	char buf[64];
+	plot_font(cr, SIZE_SMALL, 0);
+	double span = g->ma_hi - g->ma_lo;
+	double target = fmax(2.0, g->main.w / (14.0 * PT_PER_MM));
+	/* the 1-2-5 step nearest (in ratio) to the target, then widened */
+	double raw = span / target, up = plot_nice_ceil(raw);
+	double mant = up / pow(10, floor(log10(up) + 1e-9));
+	double down = up / (mant < 1.5 ? 2.0 : mant < 3 ? 2.0 : 2.5);
+	p->x_step = raw / down < up / raw ? down : up;
+	for (int guard = 0; guard < 20; guard++) {
+		double widest = 0;
+		for (double t = ceil(g->ma_lo / p->x_step) * p->x_step; t <= g->ma_hi + 1e-9; t += p->x_step) {
+			plot_fmt_num(buf, sizeof buf, t, p->x_step);
+			widest = fmax(widest, plot_text_w(cr, buf));
+		}
+		if (p->x_step / span * g->main.w >= widest + 6.0)
+			break;
+		p->x_step = plot_nice_ceil(p->x_step * 1.01);
+	}
+}
+
+/* The wrapped title from `*y` down. */
+static int plot_title_layout(plot *p, cairo_t *cr, double *y)
+{
+	if (!(p->o.title && *p->o.title))
+		return BC_OK;
+	plot_font(cr, SIZE_TITLE, 1);
+	int rc = plot_wrap(cr, p->o.title, p->g.width - 2 * MARGIN, &p->title);
+	if (rc == BC_OK)
+		*y += (double)p->title.n * SIZE_TITLE * 1.25 + 2.0;
+	return rc;
+}
+
+/* Fills p->g and everything else the drawing needs; `cr` only measures. */
+static int plot_layout(plot *p, cairo_t *cr, const bc_plot_bin *bins, size_t n, const bc_chart *chart,
+		       const bc_plot_options *opt, bc_err *err)
+{
+	int rc = plot_begin(p, opt, chart, err);
+	if (rc != BC_OK)
+		return rc;
+	p->bins = bins;
+	p->n = n;
 	if ((rc = plot_check_bins(bins, n, err)) != BC_OK)
 		return rc;
 	if (!(p->order = bc__calloc(n, sizeof *p->order)))
@@ -699,33 +781,12 @@ static int plot_layout(plot *p, cairo_t *cr, const bc_plot_bin *bins, size_t n, 
 	g->main.x = g->counts.x = left;
 	g->main.w = g->counts.w = W - left - right;
 
-	/* Time ticks: about one per 14 mm, then widened until labels clear. */
-	double span = g->ma_hi - g->ma_lo;
-	double target = fmax(2.0, g->main.w / (14.0 * PT_PER_MM));
-	/* the 1-2-5 step nearest (in ratio) to the target, then widened */
-	double raw = span / target, up = plot_nice_ceil(raw);
-	double mant = up / pow(10, floor(log10(up) + 1e-9));
-	double down = up / (mant < 1.5 ? 2.0 : mant < 3 ? 2.0 : 2.5);
-	p->x_step = raw / down < up / raw ? down : up;
-	for (int guard = 0; guard < 20; guard++) {
-		double widest = 0;
-		for (double t = ceil(g->ma_lo / p->x_step) * p->x_step; t <= g->ma_hi + 1e-9; t += p->x_step) {
-			plot_fmt_num(buf, sizeof buf, t, p->x_step);
-			widest = fmax(widest, plot_text_w(cr, buf));
-		}
-		if (p->x_step / span * g->main.w >= widest + 6.0)
-			break;
-		p->x_step = plot_nice_ceil(p->x_step * 1.01);
-	}
+	plot_time_ticks(p, cr);
 
 	/* Top to bottom. */
 	double y = MARGIN;
-	if (p->o.title && *p->o.title) {
-		plot_font(cr, SIZE_TITLE, 1);
-		if ((rc = plot_wrap(cr, p->o.title, W - 2 * MARGIN, &p->title)) != BC_OK)
-			goto nomem;
-		y += (double)p->title.n * SIZE_TITLE * 1.25 + 2.0;
-	}
+	if ((rc = plot_title_layout(p, cr, &y)) != BC_OK)
+		goto nomem;
 	y += plot_legend(cr, p, left, y, g->main.w, 0) + 3.0;
 	g->counts.y = y;
 	g->counts.h = fmin(fmax(0.1 * p->o.width_mm, 14.0), 20.0) * PT_PER_MM;
@@ -733,7 +794,19 @@ static int plot_layout(plot *p, cairo_t *cr, const bc_plot_bin *bins, size_t n, 
 	g->main.y = y;
 	g->main.h = main_h;
 	y += main_h + TICK + 1.5 + SIZE_SMALL + 2.0 + SIZE_AXIS * 1.2 + 1.0;
+	return plot_bottom_layout(p, cr, y, left, err);
+nomem:
+	return bc_err_set(err, BC_ENOMEM, "out of memory");
+}
 
+/* The timescale bar rows and the caption below the time axis at `y`;
+ * sets the page height. Shared by both figures. */
+static int plot_bottom_layout(plot *p, cairo_t *cr, double y, double left, bc_err *err)
+{
+	bc_plot__geom *g = &p->g;
+	const bc_chart *chart = p->chart;
+	const double W = g->width;
+	int rc;
 	if (chart) {
 		g->fine_rank = p->o.bar_rank != BC_RANK_UNKNOWN ? p->o.bar_rank : plot_guess_rank(p);
 		g->coarse_rank = p->o.bar_coarse_rank != BC_RANK_UNKNOWN ? p->o.bar_coarse_rank
@@ -986,7 +1059,8 @@ static void plot_main_panel(cairo_t *cr, const plot *p)
 	}
 }
 
-static void plot_draw(cairo_t *cr, const plot *p)
+/* Page, font options and title: the top of both figures. */
+static void plot_draw_top(cairo_t *cr, const plot *p)
 {
 	const bc_plot__geom *g = &p->g;
 	cairo_font_options_t *fo = cairo_font_options_create();
@@ -1007,9 +1081,12 @@ static void plot_draw(cairo_t *cr, const plot *p)
 		for (size_t k = 0; k < p->title.n; k++)
 			plot_text(cr, MARGIN, y + SIZE_TITLE * 0.9 + (double)k * SIZE_TITLE * 1.25, 0, p->title.s[k]);
 	}
-	plot_legend(cr, p, g->main.x, g->counts.y - 3.0 - plot_legend(cr, p, g->main.x, 0, g->main.w, 0), g->main.w, 1);
-	plot_counts_panel(cr, p);
-	plot_main_panel(cr, p);
+}
+
+/* Time axis, timescale bar and caption: the bottom of both figures. */
+static void plot_draw_bottom(cairo_t *cr, const plot *p)
+{
+	const bc_plot__geom *g = &p->g;
 	plot_time_axis(cr, p);
 	if (g->coarse_row.h > 0)
 		plot_bar_row(cr, p, g->coarse_row, g->coarse_rank);
@@ -1022,6 +1099,241 @@ static void plot_draw(cairo_t *cr, const plot *p)
 	cy += 3.0 * PT_PER_MM;
 	for (size_t k = 0; k < p->caption.n; k++)
 		plot_text(cr, MARGIN, cy + SIZE_SMALL * 0.9 + (double)k * SIZE_SMALL * 1.3, 0, p->caption.s[k]);
+}
+
+static void plot_ranges_panel(cairo_t *cr, const plot *p);
+
+static void plot_draw(cairo_t *cr, const plot *p)
+{
+	const bc_plot__geom *g = &p->g;
+	plot_draw_top(cr, p);
+	if (p->taxa) {
+		plot_legend(cr, p, g->main.x, g->main.y - 3.0 - plot_legend(cr, p, g->main.x, 0, g->main.w, 0), g->main.w, 1);
+		plot_ranges_panel(cr, p);
+	} else {
+		plot_legend(cr, p, g->main.x, g->counts.y - 3.0 - plot_legend(cr, p, g->main.x, 0, g->main.w, 0), g->main.w, 1);
+		plot_counts_panel(cr, p);
+		plot_main_panel(cr, p);
+	}
+	plot_draw_bottom(cr, p);
+}
+
+/* ---- the ranges figure -------------------------------------------------- */
+
+/* Drawing order: taxa with shallow occurrences first, the one whose last
+ * shallow occurrence is oldest on top; then by the deep range's end. */
+static int plot_range_group(const bc_plot_taxon_range *t, double *key)
+{
+	const bc_plot_zone_range *z = t->shallow.n > 0 ? &t->shallow : t->deep.n > 0 ? &t->deep : NULL;
+	*key = z ? (z->last_older_ma + z->last_younger_ma) / 2 : 0;
+	return t->shallow.n > 0 ? 0 : t->deep.n > 0 ? 1 : 2;
+}
+
+static int plot_range_before(const bc_plot_taxon_range *a, const bc_plot_taxon_range *b)
+{
+	double ka, kb;
+	int ga = plot_range_group(a, &ka), gb = plot_range_group(b, &kb);
+	if (ga != gb)
+		return ga < gb;
+	if (ka != kb)
+		return ka > kb;
+	return strcmp(a->label ? a->label : "", b->label ? b->label : "") < 0;
+}
+
+static int plot_check_zone(const bc_plot_zone_range *z, size_t i, const char *label, const char *which, bc_err *err)
+{
+	if (!(z->n > 0))
+		return BC_OK;
+	if (!isfinite(z->first_older_ma) || !isfinite(z->first_younger_ma) || !isfinite(z->last_older_ma) ||
+	    !isfinite(z->last_younger_ma) || z->first_older_ma < z->first_younger_ma || z->last_older_ma < z->last_younger_ma ||
+	    z->first_older_ma < z->last_older_ma || z->first_younger_ma < z->last_younger_ma)
+		return bc_err_set(err, BC_EINVALID, "plot: taxon %zu (%s): %s range %g/%g to %g/%g Ma is not ordered from older to younger",
+			i + 1, label, which, z->first_older_ma, z->first_younger_ma, z->last_older_ma, z->last_younger_ma);
+	return BC_OK;
+}
+
+static int plot_layout_ranges(plot *p, cairo_t *cr, const bc_plot_taxon_range *taxa, size_t n, const bc_chart *chart,
+			      const bc_plot_options *opt, bc_err *err)
+{
+	int rc = plot_begin(p, opt, chart, err);
+	if (rc != BC_OK)
+		return rc;
+	if (!taxa || n == 0)
+		return bc_err_set(err, BC_EINVALID, "plot: no taxa to draw (the selection is empty)");
+	p->taxa = taxa;
+	p->ntaxa = n;
+	bc_plot__geom *g = &p->g;
+	g->ma_lo = INFINITY;
+	g->ma_hi = -INFINITY;
+	double cmax = 0;
+	for (size_t i = 0; i < n; i++) {
+		const bc_plot_taxon_range *t = &taxa[i];
+		const char *label = t->label ? t->label : "";
+		if ((rc = plot_check_zone(&t->shallow, i, label, "shallow", err)) != BC_OK ||
+		    (rc = plot_check_zone(&t->deep, i, label, "deep", err)) != BC_OK)
+			return rc;
+		const bc_plot_zone_range *z[2] = {&t->shallow, &t->deep};
+		for (int k = 0; k < 2; k++) {
+			if (!(z[k]->n > 0))
+				continue;
+			g->ma_hi = fmax(g->ma_hi, z[k]->first_older_ma);
+			g->ma_lo = fmin(g->ma_lo, z[k]->last_younger_ma);
+			cmax = fmax(cmax, z[k]->n);
+		}
+	}
+	if (!isfinite(g->ma_lo))
+		return bc_err_set(err, BC_EINVALID, "plot: no taxon has a shallow or deep occurrence to draw");
+	/* Confidence limits widen the axis by at most a quarter of the data's
+	 * span; longer ones run to the edge and end in an arrow. */
+	double data_lo = g->ma_lo, reach = 0.25 * (g->ma_hi - g->ma_lo);
+	for (size_t i = 0; i < n; i++) {
+		const bc_plot_zone_range *z[2] = {&taxa[i].shallow, &taxa[i].deep};
+		for (int k = 0; k < 2; k++)
+			if (z[k]->n > 0 && isfinite(z[k]->last_ci_ma))
+				g->ma_lo = fmin(g->ma_lo, fmax(fmax(0.0, z[k]->last_ci_ma), data_lo - reach));
+	}
+	if (g->ma_hi - g->ma_lo < 1.0) {
+		double mid = (g->ma_hi + g->ma_lo) / 2;
+		g->ma_lo = fmax(0.0, mid - 0.5);
+		g->ma_hi = g->ma_lo + 1.0;
+	}
+	if (!(p->torder = bc__calloc(n, sizeof *p->torder)))
+		return bc_err_set(err, BC_ENOMEM, "out of memory");
+	for (size_t i = 0; i < n; i++) {
+		size_t j = i;
+		for (; j > 0 && plot_range_before(&taxa[i], &taxa[p->torder[j - 1]]); j--)
+			p->torder[j] = p->torder[j - 1];
+		p->torder[j] = i;
+	}
+
+	const double W = g->width;
+	char buf[64];
+	plot_font(cr, SIZE_SMALL, 0);
+	double label_w = 0, row_titles = 0;
+	for (size_t i = 0; i < n; i++)
+		label_w = fmax(label_w, plot_text_w(cr, taxa[i].label ? taxa[i].label : ""));
+	p->left_labels_w = label_w = fmin(label_w, 0.3 * W);
+	static const bc_rank all[] = {BC_RANK_AGE, BC_RANK_EPOCH, BC_RANK_SUBPERIOD, BC_RANK_PERIOD, BC_RANK_ERA, BC_RANK_EON};
+	for (size_t i = 0; i < sizeof all / sizeof all[0]; i++)
+		row_titles = fmax(row_titles, plot_text_w(cr, plot_rank_title(all[i])));
+	snprintf(buf, sizeof buf, "%.0f | %.0f", cmax, cmax);
+	p->count_w = plot_text_w(cr, buf);
+	double left = MARGIN + fmax(label_w + 3.0, row_titles + 3.0);
+	double right = MARGIN + fmax(p->count_w + 7.0, plot_text_w(cr, "000.0") / 2);
+	g->main.x = left;
+	g->main.w = W - left - right;
+	if (g->main.w < 20.0 * PT_PER_MM)
+		return bc_err_set(err, BC_EUSAGE, "plot: %g mm leaves too little room beside the taxon names; use a larger width (e.g. 180)", p->o.width_mm);
+	plot_time_ticks(p, cr);
+
+	double y = MARGIN;
+	if ((rc = plot_title_layout(p, cr, &y)) != BC_OK)
+		return bc_err_set(err, BC_ENOMEM, "out of memory");
+	y += plot_legend(cr, p, left, y, g->main.w, 0) + 3.0;
+	p->row_h = SIZE_SMALL * 1.7;
+	g->main.y = y;
+	g->main.h = (double)n * p->row_h;
+	y += g->main.h + TICK + 1.5 + SIZE_SMALL + 2.0 + SIZE_AXIS * 1.2 + 1.0;
+	return plot_bottom_layout(p, cr, y, left, err);
+}
+
+/* `s` cut (at a UTF-8 character) to fit `maxw`, with an ellipsis. */
+static void plot_fit_label(cairo_t *cr, const char *s, double maxw, char *buf, size_t cap)
+{
+	snprintf(buf, cap, "%s", s);
+	if (plot_text_w(cr, buf) <= maxw)
+		return;
+	for (size_t k = plot_utf8_len(s); k > 0; k--) {
+		char pre[200];
+		plot_utf8_prefix(s, k - 1, pre, sizeof pre);
+		snprintf(buf, cap, "%s\xE2\x80\xA6", pre); /* U+2026 ellipsis */
+		if (plot_text_w(cr, buf) <= maxw)
+			return;
+	}
+}
+
+static void plot_range_bar(cairo_t *cr, const plot *p, const bc_plot_zone_range *z, double y0, double h, unsigned colour)
+{
+	const bc_plot__geom *g = &p->g;
+	if (!(z->n > 0))
+		return;
+	double a = bc_plot__x(g, z->first_older_ma), b = bc_plot__x(g, z->last_younger_ma);
+	double x0 = fmin(a, b), w = fmax(fabs(b - a), 1.2);
+	if (fabs(b - a) < 1.2)
+		x0 = (a + b) / 2 - 0.6;
+	/* the tint is outlined in the zone's colour, so a tinted deep bar is
+	 * not read as a solid shallow one */
+	cairo_rectangle(cr, x0 + 0.25, y0 + 0.25, w - 0.5, h - 0.5);
+	plot_rgb(cr, plot_tint(colour, 0.35));
+	cairo_fill_preserve(cr);
+	plot_rgb(cr, colour);
+	cairo_set_line_width(cr, 0.5);
+	cairo_stroke(cr);
+	if (z->first_younger_ma > z->last_older_ma) {
+		double c = bc_plot__x(g, z->first_younger_ma), d = bc_plot__x(g, z->last_older_ma);
+		cairo_rectangle(cr, fmin(c, d), y0, fabs(d - c), h);
+		plot_rgb(cr, colour);
+		cairo_fill(cr);
+	}
+	if (isfinite(z->last_ci_ma)) {
+		int beyond = z->last_ci_ma < g->ma_lo - 1e-9;
+		double ci = fmax(z->last_ci_ma, g->ma_lo);
+		double xe = bc_plot__x(g, fmin(ci, z->last_younger_ma)), xs = bc_plot__x(g, z->last_younger_ma);
+		double ym = y0 + h / 2, xc = bc_plot__x(g, ci);
+		plot_rgb(cr, 0x000000u);
+		cairo_set_line_width(cr, LINE_ERR);
+		cairo_move_to(cr, xs, ym);
+		cairo_line_to(cr, xe, ym);
+		if (beyond) {
+			/* an arrow: the limit lies off the axis */
+			double dir = xc > xs ? -1.0 : 1.0;
+			cairo_move_to(cr, xc + dir * 2.5, y0 - 0.5);
+			cairo_line_to(cr, xc, ym);
+			cairo_line_to(cr, xc + dir * 2.5, y0 + h + 0.5);
+		} else {
+			cairo_move_to(cr, xc, y0 - 1.0);
+			cairo_line_to(cr, xc, y0 + h + 1.0);
+		}
+		cairo_stroke(cr);
+	}
+}
+
+static void plot_ranges_panel(cairo_t *cr, const plot *p)
+{
+	const bc_plot__geom *g = &p->g;
+	const bc_plot__box *m = &g->main;
+	char buf[256];
+	/* zebra rows and the time grid, under everything */
+	for (size_t r = 0; r < p->ntaxa; r += 2) {
+		cairo_rectangle(cr, m->x, m->y + (double)r * p->row_h, m->w, p->row_h);
+		plot_rgb(cr, 0xF3F3F3u);
+		cairo_fill(cr);
+	}
+	cairo_set_line_width(cr, LINE_AXIS);
+	plot_rgb(cr, GREY_GRID);
+	for (double t = ceil(g->ma_lo / p->x_step - 1e-9) * p->x_step; t <= g->ma_hi + 1e-9; t += p->x_step) {
+		cairo_move_to(cr, bc_plot__x(g, t), m->y);
+		cairo_line_to(cr, bc_plot__x(g, t), m->y + m->h);
+	}
+	cairo_stroke(cr);
+	plot_font(cr, SIZE_SMALL, 0);
+	double bh = p->row_h * 0.3;
+	for (size_t r = 0; r < p->ntaxa; r++) {
+		const bc_plot_taxon_range *t = &p->taxa[p->torder[r]];
+		double yc = m->y + ((double)r + 0.5) * p->row_h;
+		plot_range_bar(cr, p, &t->shallow, yc - bh - 0.4, bh, OI_SKY);
+		plot_range_bar(cr, p, &t->deep, yc + 0.4, bh, OI_BLUE);
+		plot_rgb(cr, 0x000000u);
+		plot_fit_label(cr, t->label ? t->label : "", p->left_labels_w, buf, sizeof buf);
+		plot_text(cr, m->x - 3.0, yc + SIZE_SMALL * 0.36, 1.0, buf);
+		snprintf(buf, sizeof buf, "%.0f | %.0f", t->shallow.n, t->deep.n);
+		plot_text(cr, m->x + m->w + 7.0, yc + SIZE_SMALL * 0.36, 0, buf);
+	}
+	plot_rgb(cr, 0x000000u);
+	cairo_set_line_width(cr, LINE_AXIS);
+	cairo_move_to(cr, m->x, m->y + m->h);
+	cairo_line_to(cr, m->x + m->w, m->y + m->h);
+	cairo_stroke(cr);
 }
 
 /* ---- output ------------------------------------------------------------ */
@@ -1092,56 +1404,48 @@ int bc_plot__layout(bc_plot__geom *out, const bc_plot_bin *bins, size_t n, const
 	return rc;
 }
 
-int bc_plot_shift(const char *path, const bc_plot_bin *bins, size_t n, const bc_chart *chart,
-		  const bc_plot_options *opt, bc_err *err)
+/* A 1x1 surface and context for measuring text, with the drawing's font options. */
+static cairo_t *plot_measure_cr(cairo_surface_t **s)
 {
-	plot p;
-	bc_plot_format fmt;
-	cairo_surface_t *s = NULL;
-	cairo_t *cr = NULL;
-	FILE *f = NULL;
-	bc_buf png = {0};
-	int rc = bc_plot_format_from_path(&fmt, path, err);
-	if (rc != BC_OK)
-		return rc;
-
-	/* measure on a scratch surface with the same font options */
-	s = cairo_image_surface_create(CAIRO_FORMAT_ARGB32, 1, 1);
-	cr = cairo_create(s);
+	*s = cairo_image_surface_create(CAIRO_FORMAT_ARGB32, 1, 1);
+	cairo_t *cr = cairo_create(*s);
 	cairo_font_options_t *fo = cairo_font_options_create();
 	cairo_font_options_set_hint_metrics(fo, CAIRO_HINT_METRICS_OFF);
 	cairo_font_options_set_hint_style(fo, CAIRO_HINT_STYLE_NONE);
 	cairo_set_font_options(cr, fo);
 	cairo_font_options_destroy(fo);
-	rc = plot_layout(&p, cr, bins, n, chart, opt, err);
-	cairo_destroy(cr);
-	cairo_surface_destroy(s);
-	cr = NULL;
-	s = NULL;
-	if (rc != BC_OK)
-		goto done;
+	return cr;
+}
 
+/* Draws a laid-out figure into `path` as `fmt`; removes the file on failure. */
+static int plot_render(plot *p, const char *path, bc_plot_format fmt, bc_err *err)
+{
+	cairo_surface_t *s = NULL;
+	cairo_t *cr = NULL;
+	FILE *f = NULL;
+	bc_buf png = {0};
+	int rc = BC_OK;
 	if (!(f = fopen(path, "wb"))) {
 		rc = bc_err_set(err, BC_EIO, "%s: cannot write the figure: %s", path, strerror(errno));
 		goto done;
 	}
-	const double W = p.g.width, H = p.g.height;
+	const double W = p->g.width, H = p->g.height;
 	if (fmt == BC_PLOT_SVG) {
 		s = cairo_svg_surface_create_for_stream(plot_write_file, f, W, H);
 		cairo_svg_surface_set_document_unit(s, CAIRO_SVG_UNIT_PT);
 	} else if (fmt == BC_PLOT_PDF) {
 		s = cairo_pdf_surface_create_for_stream(plot_write_file, f, W, H);
 		cairo_pdf_surface_set_metadata(s, CAIRO_PDF_METADATA_CREATOR, "bathychron " BC_VERSION);
-		if (p.o.title && *p.o.title)
-			cairo_pdf_surface_set_metadata(s, CAIRO_PDF_METADATA_TITLE, p.o.title);
+		if (p->o.title && *p->o.title)
+			cairo_pdf_surface_set_metadata(s, CAIRO_PDF_METADATA_TITLE, p->o.title);
 	} else {
-		double k = p.o.dpi / 72.0;
+		double k = p->o.dpi / 72.0;
 		s = cairo_image_surface_create(CAIRO_FORMAT_RGB24, (int)ceil(W * k), (int)ceil(H * k));
 	}
 	cr = cairo_create(s);
 	if (fmt == BC_PLOT_PNG)
-		cairo_scale(cr, p.o.dpi / 72.0, p.o.dpi / 72.0);
-	plot_draw(cr, &p);
+		cairo_scale(cr, p->o.dpi / 72.0, p->o.dpi / 72.0);
+	plot_draw(cr, p);
 	cairo_status_t st = cairo_status(cr);
 	cairo_destroy(cr);
 	cr = NULL;
@@ -1149,7 +1453,7 @@ int bc_plot_shift(const char *path, const bc_plot_bin *bins, size_t n, const bc_
 		cairo_surface_flush(s);
 		st = cairo_surface_write_to_png_stream(s, plot_write_buf, &png);
 		if (st == CAIRO_STATUS_SUCCESS) {
-			int w = plot_write_png(f, &png, p.o.dpi);
+			int w = plot_write_png(f, &png, p->o.dpi);
 			if (w == BC_EIO)
 				st = CAIRO_STATUS_WRITE_ERROR;
 			else if (w != BC_OK)
@@ -1178,6 +1482,44 @@ done:
 	if (s)
 		cairo_surface_destroy(s);
 	bc__buf_free(&png);
+	return rc;
+}
+
+int bc_plot_shift(const char *path, const bc_plot_bin *bins, size_t n, const bc_chart *chart,
+		  const bc_plot_options *opt, bc_err *err)
+{
+	plot p;
+	bc_plot_format fmt;
+	cairo_surface_t *s = NULL;
+	int rc = bc_plot_format_from_path(&fmt, path, err);
+	if (rc != BC_OK)
+		return rc;
+	/* measure on a scratch surface with the same font options */
+	cairo_t *cr = plot_measure_cr(&s);
+	rc = plot_layout(&p, cr, bins, n, chart, opt, err);
+	cairo_destroy(cr);
+	cairo_surface_destroy(s);
+	if (rc == BC_OK)
+		rc = plot_render(&p, path, fmt, err);
+	plot_free(&p);
+	return rc;
+}
+
+int bc_plot_ranges(const char *path, const bc_plot_taxon_range *taxa, size_t n, const bc_chart *chart,
+		   const bc_plot_options *opt, bc_err *err)
+{
+	plot p;
+	bc_plot_format fmt;
+	cairo_surface_t *s = NULL;
+	int rc = bc_plot_format_from_path(&fmt, path, err);
+	if (rc != BC_OK)
+		return rc;
+	cairo_t *cr = plot_measure_cr(&s);
+	rc = plot_layout_ranges(&p, cr, taxa, n, chart, opt, err);
+	cairo_destroy(cr);
+	cairo_surface_destroy(s);
+	if (rc == BC_OK)
+		rc = plot_render(&p, path, fmt, err);
 	plot_free(&p);
 	return rc;
 }
@@ -1191,4 +1533,145 @@ void bc_plot_cleanup(void)
 	memcpy(&fini, &sym, sizeof fini);
 	if (fini)
 		fini();
+}
+
+/* ---- a computed shift table as a figure -------------------------------- */
+
+int bc_plot__selection_words(bc_buf *b, const bc_shift_options *o)
+{
+	size_t start = b->len;
+	int rc = BC_OK;
+	if (o->group)
+		rc |= bc__buf_printf(b, "%sgroup %s", b->len > start ? ", " : "", o->group);
+	if (o->taxon)
+		rc |= bc__buf_printf(b, "%staxon %s", b->len > start ? ", " : "", o->taxon);
+	if (o->preservation)
+		rc |= bc__buf_printf(b, "%spreservation %s", b->len > start ? ", " : "", o->preservation);
+	if (o->has_region)
+		rc |= bc__buf_printf(b, "%sregion %g,%g,%g,%g (W,S,E,N)", b->len > start ? ", " : "",
+			o->region[0], o->region[1], o->region[2], o->region[3]);
+	if (b->len == start)
+		rc |= bc__buf_puts(b, "all occurrences");
+	return rc ? BC_ENOMEM : BC_OK;
+}
+
+int bc_plot__zoning_words(bc_buf *b, const bc_shift_options *o)
+{
+	int rc = BC_OK;
+	if (!o->n_zones)
+		return bc__buf_puts(b, "no depth boundary");
+	rc |= bc__buf_printf(b, "shallow above %g m, deep at or below %g m (a depth range crossing %g m counted as straddling)",
+		o->zones[0], o->zones[0], o->zones[0]);
+	if (o->zones_given && o->n_zones > 1) {
+		rc |= bc__buf_puts(b, "; further boundaries at ");
+		for (size_t i = 1; i < o->n_zones; i++)
+			rc |= bc__buf_printf(b, "%s%g", i > 1 ? ", " : "", o->zones[i]);
+		rc |= bc__buf_puts(b, " m");
+	}
+	return rc ? BC_ENOMEM : BC_OK;
+}
+
+int bc_plot_shift_caption(char **out, const bc_shift *s, const bc_shift_options *opts, const char *chart_name,
+			  bc_err *err)
+{
+	bc_buf b = {0};
+	int rc = BC_OK;
+	const bc_shift_summary *u = bc_shift_summary_get(s);
+	static const char *const rank[] = {"stages", "epochs", "periods"};
+	*out = NULL;
+	rc |= bc__buf_printf(&b, "Deep share (deep / (shallow + deep)) with %g %% Wilson intervals; selection: ", 100.0 * opts->level);
+	rc |= bc_plot__selection_words(&b, opts);
+	switch (opts->bins) {
+	case BC_BINS_WIDTH:
+		rc |= bc__buf_printf(&b, "; bins of %g Myr", opts->bin_width);
+		break;
+	case BC_BINS_FILE:
+		rc |= bc__buf_printf(&b, "; bins from %s", opts->bins_file ? opts->bins_file : "a file");
+		break;
+	default:
+		rc |= bc__buf_printf(&b, "; bins: %s of chart %s", rank[opts->bins],
+			opts->timescale ? opts->timescale : chart_name ? chart_name : "(default)");
+		break;
+	}
+	switch (opts->span) {
+	case BC_SPAN_ALL:
+		rc |= bc__buf_puts(&b, ", an age range counted in every bin it overlaps");
+		break;
+	case BC_SPAN_SPLIT:
+		rc |= bc__buf_puts(&b, ", an age range divided among the bins it overlaps");
+		break;
+	case BC_SPAN_MAX:
+		rc |= bc__buf_printf(&b, ", age ranges longer than %g Myr left out, the rest in the bin holding most of the range", opts->span_max_myr);
+		break;
+	default:
+		rc |= bc__buf_puts(&b, ", an age range in the bin holding most of it");
+		break;
+	}
+	rc |= bc__buf_puts(&b, "; ");
+	rc |= bc_plot__zoning_words(&b, opts);
+	rc |= bc__buf_printf(&b, "; %zu of %zu selected occurrences counted", u->n_used, u->n_selected);
+	const struct { size_t n; const char *why; } ex[] = {
+		{u->n_no_coordinates, "without coordinates"}, {u->n_outside_region, "outside the region"},
+		{u->n_no_depth, "without palaeodepth"}, {u->n_too_long, "with too long an age range"},
+		{u->n_outside_bins, "outside every bin"},
+	};
+	size_t k = 0;
+	for (size_t i = 0; i < sizeof ex / sizeof ex[0]; i++)
+		if (ex[i].n)
+			rc |= bc__buf_printf(&b, "%s%zu %s", k++ ? ", " : " (left out: ", ex[i].n, ex[i].why);
+	if (k)
+		rc |= bc__buf_puts(&b, ")");
+	if (chart_name && (opts->bins > BC_BINS_PERIOD || (opts->timescale && strcmp(opts->timescale, chart_name) != 0)))
+		rc |= bc__buf_printf(&b, ". Timescale bar: chart %s.", chart_name);
+	else
+		rc |= bc__buf_puts(&b, ".");
+	if (rc || !b.data) {
+		bc__buf_free(&b);
+		return bc_err_set(err, BC_ENOMEM, "out of memory");
+	}
+	*out = b.data;
+	return BC_OK;
+}
+
+int bc_plot_shift_table(const char *path, const bc_shift *s, const bc_shift_options *opts, const bc_chart *chart,
+			const bc_plot_options *opt, bc_err *err)
+{
+	bc_plot_options o = BC_PLOT_OPTIONS_INIT;
+	bc_plot_format fmt;
+	char *caption = NULL;
+	size_t n = bc_shift_bin_count(s);
+	int rc = bc_plot_format_from_path(&fmt, path, err);
+	if (rc != BC_OK)
+		return rc;
+	if (opt)
+		o = *opt;
+	o.level = opts->level;
+	bc_plot_bin *bins = bc__calloc(n ? n : 1, sizeof *bins);
+	if (!bins)
+		return bc_err_set(err, BC_ENOMEM, "out of memory");
+	for (size_t i = 0; i < n; i++) {
+		const bc_shift_bin *x = bc_shift_bin_at(s, i);
+		bc_plot_bin *b = &bins[i];
+		b->label = x->name;
+		b->older_ma = x->older_ma;
+		b->younger_ma = x->younger_ma;
+		b->n = x->n;
+		b->n_shallow = x->n_shallow;
+		b->n_deep = x->n_deep;
+		b->n_straddle = x->n_straddle;
+		b->has_frac = x->n_shallow + x->n_deep > 0;
+		b->frac = x->frac_deep;
+		b->lo = x->frac_deep_lo;
+		b->hi = x->frac_deep_hi;
+		b->has_band = 0; /* resampling percentiles are not part of the table yet */
+	}
+	if (!o.caption) {
+		rc = bc_plot_shift_caption(&caption, s, opts, chart ? bc_chart_name(chart) : NULL, err);
+		o.caption = caption;
+	}
+	if (rc == BC_OK)
+		rc = bc_plot_shift(path, bins, n, chart, &o, err);
+	free(caption);
+	free(bins);
+	return rc;
 }

@@ -6,6 +6,7 @@
 #define BC_PLOT_H
 
 #include "bathychron.h"
+#include "internal.h"
 
 /** A rectangle in points (1/72 inch) from the page's top left. */
 typedef struct bc_plot__box {
@@ -41,5 +42,14 @@ int bc_plot__dark_text(unsigned rgb);
  * the same candidates with measured widths instead of a character budget.
  */
 void bc_plot__abbreviate(const char *name, size_t max_chars, char *buf, size_t cap);
+
+/**
+ * Appends the selection of `o` in words ("group crinoids, taxon Aus"; "all
+ * occurrences" when none), as captions and stamps name it. 0 or BC_ENOMEM.
+ */
+int bc_plot__selection_words(bc_buf *b, const bc_shift_options *o);
+
+/** Appends the zoning of `o` in words ("shallow above 200 m, deep at or below 200 m"). */
+int bc_plot__zoning_words(bc_buf *b, const bc_shift_options *o);
 
 #endif

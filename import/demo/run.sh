@@ -1,9 +1,10 @@
 #!/bin/sh
-# run.sh - `make demo`: the main job on the INVENTED demo data set.
-# Creates demo-output/, builds a database, loads the references, imports
-# the compilation (a few rows are deliberately bad and end in quarantine),
-# prints the check report, and writes the shift table, the methods
-# paragraph and the figure.
+# run.sh - `make demo`: the main job on the INVENTED demo data set
+# (import/demo/: invented taxa, localities, people and references).
+# Writes everything into demo-output/: a database, the check report, the
+# shift table (md, latex, csv), the methods paragraph, the figure (svg, pdf,
+# png) and the per-taxon range table and figure. A few demo rows are
+# deliberately bad: they end in the quarantine and `check` explains them.
 set -u
 top=$(cd "$(dirname "$0")/../.." && pwd)
 bc="$top/build/bathychron"
@@ -11,11 +12,44 @@ out="$top/demo-output"
 demo="$top/import/demo"
 rm -rf "$out"
 mkdir -p "$out"
-db="$out/demo.gpkg"
+cd "$top"
+db=demo-output/demo.gpkg
 step() { printf '\n== %s\n' "$*"; }
-run() { printf '$ %s\n' "$*" | sed "s|$top/||g"; "$@"; }
+run() { printf '$ bathychron %s\n' "$*"; "$bc" "$@"; }
+must() { "$@" || { echo "demo: step failed: $*" >&2; exit 3; }; }
 
-step "create the database (an OGC GeoPackage) with the ICS chart 2024-12"
-run "$bc" init "$db" || exit 3
+step "1. create the database (an OGC GeoPackage) with the ICS chart 2024-12"
+must run init $db
+
+step "2. load the references (BibTeX)"
+must run refs $db import/demo/references.bib
+
+step "3. import the compilation (7 rows are deliberately bad: expect exit status 1)"
+run import $db import/demo/occurrences.csv
+echo "(exit status $?: rows were quarantined, nothing was lost)"
+
+step "4. import a lab's own spreadsheet through a column map (headers Stage, Depth (ft), Lat, Ref ...)"
+must run import $db import/demo/lab-sheet.csv --map example
+
+step "5. the check report (quarantined rows with file, line, field and reason)"
+run check $db
+run check $db --quarantine -o demo-output/quarantine.csv >/dev/null
+echo "(quarantined rows written to demo-output/quarantine.csv, ready to fix and re-import)"
+
+step "6. the shift table: stalked forms, stage bins, shallow/deep split at 200 m"
+must run shift $db --group stalked --format md -o demo-output/shift.md
+must run shift $db --group stalked --format latex -o demo-output/shift.tex
+must run shift $db --group stalked --format csv -o demo-output/shift.csv
+must run shift $db --group stalked --methods > demo-output/methods.txt
+sed -n '1,12p' demo-output/shift.md
+
+step "7. the figure, in three formats"
+for f in svg pdf png; do
+	must run plot $db --group stalked -o demo-output/shift.$f
+done
+
+step "8. per-taxon depth ranges (genus) with their figure"
+must run ranges $db --group stalked --rank genus --format md -o demo-output/ranges.md --figure demo-output/ranges.png
 echo
-echo "demo finished: everything is in demo-output/"
+echo "demo finished: every file is in demo-output/"
+ls demo-output

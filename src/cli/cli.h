@@ -37,6 +37,49 @@ int cli_parse_double(const char *s, double *out);
 /** Parses a non-negative integer; returns 0 or -1. */
 int cli_parse_long(const char *s, long *out);
 
+/* ---- options shared by shift, plot and ranges (shift_options.c) ---- */
+
+/* Option groups a command accepts (bit mask for cli_shift_arg). */
+enum {
+	CLI_SHIFT_SELECT = 1u,    /* --group --taxon --preservation --region */
+	CLI_SHIFT_TIMESCALE = 2u, /* --timescale */
+	CLI_SHIFT_BINNING = 4u,   /* --bins --span */
+	CLI_SHIFT_ZONING = 8u,    /* --split --zones */
+	CLI_SHIFT_LEVEL = 16u,    /* --level */
+	CLI_SHIFT_ALL = 31u
+};
+
+/** What the shared options set. Start from CLI_SHIFT_ARGS_INIT. */
+typedef struct cli_shift_args {
+	bc_shift_options opts;
+	const char *db_path;
+	int have_split, have_zones;
+} cli_shift_args;
+#define CLI_SHIFT_ARGS_INIT {BC_SHIFT_OPTIONS_INIT, NULL, 0, 0}
+
+/** Help text of each group, identical in every command that takes it. */
+extern const char cli_shift_help_selection[];
+extern const char cli_shift_help_binning[];
+extern const char cli_shift_help_zoning[];
+
+/**
+ * Splits "--name=value", "--name" or "-n" into the name without dashes
+ * (copied into `buf` when an '=' is present) and the inline value (NULL
+ * when none). Returns the name.
+ */
+const char *cli_opt_name(const char *arg, char *buf, size_t cap, const char **value);
+/** The option's value: `inline_value`, else the next argument (advancing *i);
+ * NULL after printing a usage message when there is none. */
+const char *cli_opt_value(const char *cmd, int argc, char **argv, int *i, const char *inline_value);
+/**
+ * Takes argv[*i] if it is the database argument or an option of `groups`
+ * (a separate value advances *i). Returns 1 when taken, 0 when it is not
+ * one of these (the caller handles it), -1 after printing a usage message.
+ */
+int cli_shift_arg(const char *cmd, unsigned groups, int argc, char **argv, int *i, cli_shift_args *a);
+/** After the loop: a database was given, --split and --zones not both. CLI_OK or CLI_USAGE. */
+int cli_shift_args_done(const char *cmd, const cli_shift_args *a);
+
 /* One entry point per command: argv[0] is the command name. */
 int cmd_init(int argc, char **argv);
 int cmd_timescale(int argc, char **argv);
@@ -46,6 +89,7 @@ int cmd_refs(int argc, char **argv);
 int cmd_check(int argc, char **argv);
 int cmd_shift(int argc, char **argv);
 int cmd_plot(int argc, char **argv);
+int cmd_ranges(int argc, char **argv);
 int cmd_export(int argc, char **argv);
 
 #endif

@@ -76,20 +76,20 @@ static const char help[] =
 	"uncertainty or transport.\n"
 	"Exit status: 0 table written, 1 nothing to count, 2 usage, 3 environment.\n";
 
-/* Options that take a value and go straight to the library. */
-static const char *const lib_opts[] = {
-	"group", "taxon", "preservation", "region", "timescale", "bins", "span", "split", "zones", "level",
-	"draws", "seed", "threads", "resample", "background", "quota",
-};
+/* The uncertainty and bias options: they take a value and go straight to
+ * the library (the shared selection, binning and zoning options are
+ * parsed by shift_options.c). */
+static const char *const uncert_opts[] = {"draws", "seed", "threads", "resample", "background", "quota"};
 /* Flags without a value, passed to the library as "yes". */
-static const char *const lib_flags[] = {"bootstrap", "weight-references", "background-with-focal", "taphonomy"};
+static const char *const uncert_flags[] = {"bootstrap", "weight-references", "background-with-focal", "taphonomy"};
 
 int cmd_shift(int argc, char **argv)
 {
-	bc_shift_options opts = BC_SHIFT_OPTIONS_INIT;
+	cli_shift_args sa = CLI_SHIFT_ARGS_INIT;
+	bc_shift_options opts;
 	bc_format format = BC_FORMAT_CSV;
-	const char *db_path = NULL, *out_path = NULL;
-	int methods = 0, have_split = 0, have_zones = 0, taph_table = 0;
+	const char *out_path = NULL;
+	int methods = 0, taph_table = 0;
 	bc_err err = {0};
 	for (int i = 1; i < argc; i++) {
 		const char *a = argv[i];
@@ -102,40 +102,30 @@ int cmd_shift(int argc, char **argv)
 			continue;
 		}
 		int flag = 0;
-		for (size_t k = 0; k < sizeof lib_flags / sizeof lib_flags[0]; k++)
-			flag |= strncmp(a, "--", 2) == 0 && strcmp(a + 2, lib_flags[k]) == 0;
+		for (size_t k = 0; k < sizeof uncert_flags / sizeof uncert_flags[0]; k++)
+			flag |= strncmp(a, "--", 2) == 0 && strcmp(a + 2, uncert_flags[k]) == 0;
 		if (flag) {
-			if (bc_shift_option_set(&opts, a + 2, "yes", &err) != BC_OK)
+			if (bc_shift_option_set(&sa.opts, a + 2, "yes", &err) != BC_OK)
 				return cli_usage("shift", "%s", err.msg);
 			continue;
 		}
-		if (a[0] != '-') {
-			if (db_path)
-				return cli_usage("shift", "more than one database given ('%s' and '%s')", db_path, a);
-			db_path = a;
+		int taken = cli_shift_arg("shift", CLI_SHIFT_ALL, argc, argv, &i, &sa);
+		if (taken < 0)
+			return CLI_USAGE;
+		if (taken)
 			continue;
-		}
-		const char *name = a[1] == '-' ? a + 2 : a + 1;
-		const char *value = NULL;
 		char namebuf[64];
-		const char *eq = strchr(name, '=');
-		if (eq && (size_t)(eq - name) < sizeof namebuf) {
-			memcpy(namebuf, name, (size_t)(eq - name));
-			namebuf[eq - name] = '\0';
-			name = namebuf;
-			value = eq + 1;
-		}
-		int known = strcmp(name, "format") == 0 || strcmp(name, "o") == 0 || strcmp(name, "output") == 0 ||
+		const char *value;
+		const char *name = cli_opt_name(a, namebuf, sizeof namebuf, &value);
+		int uncert = 0;
+		for (size_t k = 0; k < sizeof uncert_opts / sizeof uncert_opts[0]; k++)
+			uncert |= strcmp(name, uncert_opts[k]) == 0;
+		int known = uncert || strcmp(name, "format") == 0 || strcmp(name, "o") == 0 || strcmp(name, "output") == 0 ||
 			    strcmp(name, "table") == 0;
-		for (size_t k = 0; k < sizeof lib_opts / sizeof lib_opts[0]; k++)
-			known |= strcmp(name, lib_opts[k]) == 0;
 		if (!known)
 			return cli_usage("shift", "unknown option '%s'", a);
-		if (!value) {
-			if (i + 1 >= argc)
-				return cli_usage("shift", "option '%s' needs a value", a);
-			value = argv[++i];
-		}
+		if (!(value = cli_opt_value("shift", argc, argv, &i, value)))
+			return CLI_USAGE;
 		if (strcmp(name, "format") == 0) {
 			if (bc_format_parse(&format, value) != BC_OK)
 				return cli_usage("shift", "--format: '%s' is not csv, tsv, md, latex or json", value);
@@ -148,21 +138,18 @@ int cmd_shift(int argc, char **argv)
 				taph_table = 1;
 			else
 				return cli_usage("shift", "--table: '%s' is not bins or taphonomy", value);
-		} else {
-			have_split |= strcmp(name, "split") == 0;
-			have_zones |= strcmp(name, "zones") == 0;
-			if (bc_shift_option_set(&opts, name, value, &err) != BC_OK)
-				return cli_usage("shift", "%s", err.msg);
+		} else if (bc_shift_option_set(&sa.opts, name, value, &err) != BC_OK) {
+			return cli_usage("shift", "%s", err.msg);
 		}
 	}
-	if (!db_path)
-		return cli_usage("shift", "expected a database file");
-	if (have_split && have_zones)
-		return cli_usage("shift", "--split and --zones exclude each other (--zones A,B uses A as the split)");
-	if (taph_table && !opts.taphonomy)
+	if (cli_shift_args_done("shift", &sa) != CLI_OK)
+		return CLI_USAGE;
+	if (taph_table && !sa.opts.taphonomy)
 		return cli_usage("shift", "--table taphonomy needs --taphonomy");
 	if (taph_table && methods)
 		return cli_usage("shift", "--table taphonomy and --methods exclude each other (the methods paragraph covers both)");
+	const char *db_path = sa.db_path;
+	opts = sa.opts;
 	bc_db *db = NULL;
 	bc_shift *s = NULL;
 	int status = CLI_OK;

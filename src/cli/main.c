@@ -23,6 +23,7 @@ static const struct command {
 	{"check", cmd_check, "report quarantined rows, unlinked references, conflicts, duplicates"},
 	{"shift", cmd_shift, "compute the occurrence-shift table between shallow and deep water"},
 	{"plot", cmd_plot, "draw the shift as a figure (SVG, PDF or PNG)"},
+	{"ranges", cmd_ranges, "per taxon, its range in each depth zone and how the shallow range ends"},
 	{"export", cmd_export, "write stored occurrences as CSV or a Darwin Core Archive"},
 };
 

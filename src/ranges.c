@@ -1,0 +1,956 @@
+/*
+ * ranges.c - per-taxon depth ranges through time: for each taxon at a
+ * chosen rank, when it was first and last found in each depth zone, how
+ * its shallow range ends relative to its deep range given the age ranges,
+ * and confidence intervals on range ends from the number of horizons
+ * (Strauss & Sadler 1989; Marshall 1990). doc/ranges.md states every rule.
+ */
+#include "ranges.h"
+
+#include "db.h"
+#include "output.h"
+#include "plot.h"
+#include "shift.h"
+
+#include <math.h>
+#include <nettle/sha2.h>
+#include <stdlib.h>
+#include <string.h>
+#include <strings.h>
+
+#define CAUTION "Palaeodepths are interpretations, often from environment terms; a range end is the last find, not the last living population " \
+	"(the confidence limits assume horizons scattered at random through the true range, which uneven sampling and facies breaks violate); " \
+	"an apparent retreat from shallow water carried by one or two occurrences is weak evidence; ranges can also shift through age uncertainty or transport."
+#define FIGURE_CAUTION "Palaeodepths are interpretations of the sources; a range ends at the last find, and a shallow range that ends " \
+	"early on one or two occurrences is weak evidence of a retreat."
+#define EPS 1e-9
+
+/* Selection as in shift.c (doc/shift.md), plus the name at the chosen rank. */
+static const char SQL_SELECT[] =
+	"SELECT o.occurrence_pk, o.older_ma, o.younger_ma, o.min_depth_m, o.max_depth_m,"
+	" o.reference_key, o.locality_id, o.articulation, l.longitude, l.latitude,"
+	" CASE :rank WHEN 'family' THEN o.family WHEN 'order' THEN o.\"order\""
+	"  WHEN 'species' THEN o.scientific_name"
+	"  ELSE CASE WHEN trim(o.genus) <> '' THEN o.genus"
+	"   WHEN instr(trim(o.scientific_name), ' ') > 0 THEN substr(trim(o.scientific_name), 1, instr(trim(o.scientific_name), ' ') - 1)"
+	"   ELSE o.scientific_name END END"
+	" FROM occurrences o LEFT JOIN localities l ON l.fid = o.locality_id"
+	" WHERE (:grp IS NULL OR o.taxon_group = :grp COLLATE NOCASE)"
+	" AND (:taxon IS NULL OR o.scientific_name = :taxon COLLATE NOCASE OR o.genus = :taxon COLLATE NOCASE"
+	"  OR o.family = :taxon COLLATE NOCASE OR o.\"order\" = :taxon COLLATE NOCASE"
+	"  OR o.scientific_name LIKE :taxon_prefix ESCAPE '\\')"
+	" AND (:artic IS NULL OR o.articulation = :artic COLLATE NOCASE)"
+	" AND (:pres IS NULL OR o.preservation = :pres COLLATE NOCASE)"
+	" ORDER BY o.occurrence_pk";
+static const char SQL_VOCABS[] = "SELECT kind, name, sha256 FROM vocabularies ORDER BY kind, vocabulary_id";
+
+static const char *const rank_names[] = {"genus", "family", "order", "species"};
+
+typedef struct rocc {
+	int64_t pk, loc;       /* loc -1: none */
+	double older, younger, mid;
+	char *name, *ref;      /* owned */
+	int z2, zk;            /* zones at the first boundary / at every boundary; -1 straddling */
+} rocc;
+
+struct bc_ranges {
+	bc_ranges_options opts;     /* string fields point at the owned copies below */
+	char *group, *taxon, *preservation, *timescale;
+	char *db_path, *chart_name, *chart_source, *vocabs;
+	bc_chart *chart_owned;
+	const bc_chart *chart;
+	rocc *occ;
+	size_t nocc;
+	bc_range_taxon *taxa;
+	size_t ntaxa;
+	bc_range_zone *zones;       /* ntaxa x (n_zones + 1) with --zones */
+	char **strs;                /* interval names, freed with the result */
+	size_t nstrs, capstrs;
+	bc_ranges_summary sum;
+};
+
+static int oom(bc_err *err) { return bc_err_set(err, BC_ENOMEM, "out of memory"); }
+
+/* ------------------------------------------------------------------ */
+/* Options and the two rules                                            */
+/* ------------------------------------------------------------------ */
+
+int bc_ranges_option_set(bc_ranges_options *o, const char *name, const char *value, bc_err *err)
+{
+	if (name && value && strcmp(name, "rank") == 0) {
+		if (strcasecmp(value, "genus") == 0)
+			o->rank = BC_RANGES_GENUS;
+		else if (strcasecmp(value, "family") == 0)
+			o->rank = BC_RANGES_FAMILY;
+		else if (strcasecmp(value, "order") == 0)
+			o->rank = BC_RANGES_ORDER;
+		else if (strcasecmp(value, "scientificName") == 0 || strcasecmp(value, "species") == 0)
+			o->rank = BC_RANGES_SPECIES;
+		else
+			return bc_err_set(err, BC_EUSAGE, "--rank: '%s' is not genus, family, order or scientificName", value);
+		return BC_OK;
+	}
+	if (name && (strcmp(name, "bins") == 0 || strcmp(name, "span") == 0))
+		return bc_err_set(err, BC_EUSAGE, "--%s: ranges are not binned; every occurrence keeps its own age range", name);
+	return bc_shift_option_set(&o->sel, name, value, err);
+}
+
+double bc_ranges__extension(size_t h, double level)
+{
+	if (h < 2 || !(level > 0 && level < 1))
+		return NAN;
+	/* Strauss & Sadler (1989); Marshall (1990) eq. 1: C = 1 - (1 + r)^-(H-1) */
+	return pow(1.0 - level, -1.0 / ((double)h - 1.0)) - 1.0;
+}
+
+unsigned bc_ranges__relation(double s_young, double s_old, double f_young, double f_old, double l_young, double l_old)
+{
+	unsigned bits = 0;
+	if (s_old > f_young + EPS)
+		bits |= BC_RANGE_ENDS_BEFORE;
+	if (s_young < l_old - EPS)
+		bits |= BC_RANGE_OUTLASTS;
+	if (s_young < f_old - EPS && s_old > l_young + EPS)
+		bits |= BC_RANGE_OVERLAPS;
+	return bits ? bits : BC_RANGE_OVERLAPS;
+}
+
+/* ------------------------------------------------------------------ */
+/* Loading                                                              */
+/* ------------------------------------------------------------------ */
+
+static int art_class_name(const char *s, const char **out)
+{
+	static const char *const cls[] = {"articulated", "partly articulated", "disarticulated", "unknown"};
+	*out = NULL;
+	if (!s)
+		return 0;
+	for (int i = 0; i < 4; i++)
+		if (strcasecmp(s, cls[i]) == 0)
+			*out = cls[i];
+	if (strcasecmp(s, "partly-articulated") == 0 || strcasecmp(s, "partly_articulated") == 0)
+		*out = cls[1];
+	return *out != NULL;
+}
+
+static int in_region(const double r[4], double lon, double lat)
+{
+	if (lat < r[1] || lat > r[3])
+		return 0;
+	if (r[0] <= r[2])
+		return lon >= r[0] && lon <= r[2];
+	return lon >= r[0] || lon <= r[2];
+}
+
+static void put_le64(struct sha256_ctx *h, uint64_t v)
+{
+	uint8_t b[8];
+	for (int i = 0; i < 8; i++)
+		b[i] = (uint8_t)(v >> (8 * i));
+	sha256_update(h, 8, b);
+}
+
+static void put_str(struct sha256_ctx *h, const char *s)
+{
+	size_t n = strlen(s);
+	uint8_t b[4] = {(uint8_t)n, (uint8_t)(n >> 8), (uint8_t)(n >> 16), (uint8_t)(n >> 24)};
+	sha256_update(h, 4, b);
+	sha256_update(h, n, (const uint8_t *)s);
+}
+
+static int load(bc_ranges *r, bc_db *db, bc_err *err)
+{
+	sqlite3_stmt *st = NULL;
+	char *prefix = NULL;
+	size_t cap = 0;
+	struct sha256_ctx hash;
+	const bc_shift_options *o = &r->opts.sel;
+	int rc = bc_db__prepare(db, &st, SQL_SELECT, err);
+	if (rc)
+		return rc;
+	const char *artic = NULL;
+	art_class_name(o->preservation, &artic);
+	if (o->taxon) {
+		bc_buf b = {0};
+		int bad = 0;
+		for (const char *p = o->taxon; *p && !bad; p++) {
+			if (*p == '%' || *p == '_' || *p == '\\')
+				bad |= bc__buf_puts(&b, "\\");
+			bad |= bc__buf_append(&b, p, 1);
+		}
+		bad |= bc__buf_puts(&b, " %");
+		if (bad) {
+			bc__buf_free(&b);
+			rc = oom(err);
+			goto done;
+		}
+		prefix = b.data;
+	}
+	bc_db__bind_text(st, ":rank", rank_names[r->opts.rank]);
+	bc_db__bind_text(st, ":grp", o->group);
+	bc_db__bind_text(st, ":taxon", o->taxon);
+	bc_db__bind_text(st, ":taxon_prefix", prefix);
+	bc_db__bind_text(st, ":artic", artic);
+	bc_db__bind_text(st, ":pres", artic ? NULL : o->preservation);
+	sha256_init(&hash);
+	int step;
+	while ((step = sqlite3_step(st)) == SQLITE_ROW) {
+		r->sum.n_selected++;
+		if (o->has_region) {
+			if (sqlite3_column_type(st, 8) == SQLITE_NULL || sqlite3_column_type(st, 9) == SQLITE_NULL) {
+				r->sum.n_no_coordinates++;
+				continue;
+			}
+			if (!in_region(o->region, sqlite3_column_double(st, 8), sqlite3_column_double(st, 9))) {
+				r->sum.n_outside_region++;
+				continue;
+			}
+		}
+		int64_t pk = sqlite3_column_int64(st, 0);
+		double v[4];
+		uint64_t bits[4];
+		int isnull[4];
+		for (int c = 0; c < 4; c++) {
+			isnull[c] = sqlite3_column_type(st, c + 1) == SQLITE_NULL;
+			v[c] = isnull[c] ? NAN : sqlite3_column_double(st, c + 1);
+			bits[c] = 0x7ff8000000000000ULL;
+			if (!isnull[c])
+				memcpy(&bits[c], &v[c], sizeof bits[c]);
+		}
+		const char *ref = (const char *)sqlite3_column_text(st, 5);
+		int64_t loc = sqlite3_column_type(st, 6) == SQLITE_NULL ? -1 : sqlite3_column_int64(st, 6);
+		const char *art = (const char *)sqlite3_column_text(st, 7);
+		const char *name = (const char *)sqlite3_column_text(st, 10);
+		ref = ref ? ref : "";
+		art = art ? art : "";
+		name = name ? name : "";
+		put_le64(&hash, (uint64_t)pk);
+		for (int c = 0; c < 4; c++)
+			put_le64(&hash, bits[c]);
+		put_le64(&hash, (uint64_t)loc);
+		put_str(&hash, art);
+		put_str(&hash, ref);
+		put_str(&hash, name);
+		size_t nl = strlen(name);
+		while (nl && name[nl - 1] == ' ')
+			nl--;
+		while (nl && *name == ' ') {
+			name++;
+			nl--;
+		}
+		if (!nl) {
+			r->sum.n_no_name++;
+			continue;
+		}
+		if (isnull[2] && isnull[3]) {
+			r->sum.n_no_depth++;
+			continue;
+		}
+		if (r->nocc == cap) {
+			size_t nc = cap ? 2 * cap : 1024;
+			rocc *p = bc__realloc(r->occ, nc * sizeof *p);
+			if (!p) {
+				rc = oom(err);
+				goto done;
+			}
+			r->occ = p;
+			cap = nc;
+		}
+		rocc *x = &r->occ[r->nocc];
+		memset(x, 0, sizeof *x);
+		if (!(x->name = bc__strndup(name, nl)) || !(x->ref = bc__strdup(ref))) {
+			free(x->name);
+			rc = oom(err);
+			goto done;
+		}
+		r->nocc++;
+		x->pk = pk;
+		x->loc = loc;
+		x->older = v[0];
+		x->younger = v[1];
+		x->mid = (v[0] + v[1]) / 2;
+		double dmin = isnull[2] ? v[3] : v[2], dmax = isnull[3] ? v[2] : v[3];
+		x->z2 = bc_shift__zone(dmin, dmax, o->zones, 1);
+		x->zk = bc_shift__zone(dmin, dmax, o->zones, o->n_zones);
+	}
+	if (step != SQLITE_DONE) {
+		rc = bc_db__error(db, err, "reading occurrences");
+		goto done;
+	}
+	uint8_t d[SHA256_DIGEST_SIZE];
+	sha256_digest(&hash, sizeof d, d);
+	for (int i = 0; i < SHA256_DIGEST_SIZE; i++)
+		snprintf(r->sum.data_sha256 + 2 * i, 3, "%02x", d[i]);
+done:
+	sqlite3_finalize(st);
+	free(prefix);
+	return rc;
+}
+
+static int read_vocabs(bc_ranges *r, bc_db *db, bc_err *err)
+{
+	sqlite3_stmt *st = NULL;
+	bc_buf b = {0};
+	int rc = bc_db__prepare(db, &st, SQL_VOCABS, err), step = SQLITE_DONE;
+	if (rc)
+		return rc;
+	while (rc == BC_OK && (step = sqlite3_step(st)) == SQLITE_ROW)
+		rc = bc__buf_printf(&b, "%s%s %s sha256:%s", b.len ? "; " : "", (const char *)sqlite3_column_text(st, 0),
+			(const char *)sqlite3_column_text(st, 1), (const char *)sqlite3_column_text(st, 2)) ? oom(err) : BC_OK;
+	if (rc == BC_OK && step != SQLITE_DONE)
+		rc = bc_db__error(db, err, "reading the vocabularies");
+	sqlite3_finalize(st);
+	if (rc == BC_OK && !b.len && bc__buf_puts(&b, "none recorded in the database"))
+		rc = oom(err);
+	if (rc) {
+		bc__buf_free(&b);
+		return rc;
+	}
+	r->vocabs = b.data;
+	return BC_OK;
+}
+
+/* ------------------------------------------------------------------ */
+/* Per taxon                                                            */
+/* ------------------------------------------------------------------ */
+
+static int occ_cmp(const void *a, const void *b)
+{
+	const rocc *x = a, *y = b;
+	int c = strcmp(x->name, y->name);
+	return c ? c : (x->pk > y->pk) - (x->pk < y->pk);
+}
+
+static int str_cmp(const void *a, const void *b) { return strcmp(*(const char *const *)a, *(const char *const *)b); }
+static int i64_cmp(const void *a, const void *b)
+{
+	int64_t x = *(const int64_t *)a, y = *(const int64_t *)b;
+	return (x > y) - (x < y);
+}
+static int dbl_cmp(const void *a, const void *b)
+{
+	double x = *(const double *)a, y = *(const double *)b;
+	return (x > y) - (x < y);
+}
+
+/* Scratch space for distinct counts, sized for the largest taxon. */
+typedef struct scratch {
+	const char **refs;
+	int64_t *locs;
+	double *mids;
+} scratch;
+
+static void distinct_refs_locs(const rocc *const *v, size_t n, scratch *s, size_t *nref, size_t *nloc)
+{
+	size_t kr = 0, kl = 0;
+	for (size_t i = 0; i < n; i++) {
+		if (*v[i]->ref)
+			s->refs[kr++] = v[i]->ref;
+		if (v[i]->loc >= 0)
+			s->locs[kl++] = v[i]->loc;
+	}
+	qsort(s->refs, kr, sizeof *s->refs, str_cmp);
+	qsort(s->locs, kl, sizeof *s->locs, i64_cmp);
+	*nref = *nloc = 0;
+	for (size_t i = 0; i < kr; i++)
+		*nref += i == 0 || strcmp(s->refs[i], s->refs[i - 1]) != 0;
+	for (size_t i = 0; i < kl; i++)
+		*nloc += i == 0 || s->locs[i] != s->locs[i - 1];
+}
+
+/* The finest chart interval holding age t: an older bound belongs to the
+ * interval below it (younger < t <= older), a younger bound to the one
+ * above it (younger <= t < older). */
+static const char *interval_at(const bc_chart *c, double t, int older_side)
+{
+	static const bc_rank ranks[] = {BC_RANK_AGE, BC_RANK_EPOCH, BC_RANK_PERIOD, BC_RANK_ERA, BC_RANK_EON};
+	if (!c || !isfinite(t))
+		return NULL;
+	for (size_t k = 0; k < sizeof ranks / sizeof ranks[0]; k++)
+		for (size_t i = 0; i < bc_chart_count(c); i++) {
+			const bc_interval *iv = bc_chart_interval(c, i);
+			if (iv->rank != ranks[k])
+				continue;
+			if (older_side ? (t > iv->younger_ma + EPS && t <= iv->older_ma + EPS)
+				       : (t >= iv->younger_ma - EPS && t < iv->older_ma - EPS))
+				return iv->name;
+		}
+	return NULL;
+}
+
+static int keep_str(bc_ranges *r, char *s)
+{
+	if (!s)
+		return -1;
+	if (r->nstrs == r->capstrs) {
+		size_t nc = r->capstrs ? 2 * r->capstrs : 64;
+		char **p = bc__realloc(r->strs, nc * sizeof *p);
+		if (!p) {
+			free(s);
+			return -1;
+		}
+		r->strs = p;
+		r->capstrs = nc;
+	}
+	r->strs[r->nstrs++] = s;
+	return 0;
+}
+
+static int span_name(bc_ranges *r, double older, double younger, const char **out)
+{
+	const char *a = interval_at(r->chart, older, 1), *b = interval_at(r->chart, younger, 0);
+	char buf[300];
+	*out = "";
+	if (!a && !b)
+		return 0;
+	if (a && b && strcmp(a, b) == 0)
+		snprintf(buf, sizeof buf, "%s", a);
+	else
+		snprintf(buf, sizeof buf, "%s-%s", a ? a : "?", b ? b : "?");
+	if (keep_str(r, bc__strdup(buf)))
+		return -1;
+	*out = r->strs[r->nstrs - 1];
+	return 0;
+}
+
+static int zone_fill(bc_ranges *r, bc_range_zone *z, const rocc *const *v, size_t n, scratch *s)
+{
+	memset(z, 0, sizeof *z);
+	z->first_older_ma = z->first_younger_ma = z->last_older_ma = z->last_younger_ma = NAN;
+	z->ci_extension = z->first_ci_ma = z->last_ci_ma = NAN;
+	z->first_interval = z->last_interval = "";
+	z->n = n;
+	if (!n)
+		return 0;
+	double maxo = -INFINITY, maxy = -INFINITY, mino = INFINITY, miny = INFINITY;
+	for (size_t i = 0; i < n; i++) {
+		maxo = fmax(maxo, v[i]->older);
+		maxy = fmax(maxy, v[i]->younger);
+		mino = fmin(mino, v[i]->older);
+		miny = fmin(miny, v[i]->younger);
+		s->mids[i] = v[i]->mid;
+	}
+	z->first_older_ma = maxo;
+	z->first_younger_ma = maxy;
+	z->last_older_ma = mino;
+	z->last_younger_ma = miny;
+	distinct_refs_locs(v, n, s, &z->n_references, &z->n_localities);
+	qsort(s->mids, n, sizeof *s->mids, dbl_cmp);
+	for (size_t i = 0; i < n; i++)
+		z->n_horizons += i == 0 || s->mids[i] - s->mids[i - 1] > EPS;
+	z->ci_extension = bc_ranges__extension(z->n_horizons, r->opts.sel.level);
+	if (isfinite(z->ci_extension)) {
+		double range = s->mids[n - 1] - s->mids[0];
+		z->first_ci_ma = s->mids[n - 1] + z->ci_extension * range;
+		z->last_ci_ma = fmax(0.0, s->mids[0] - z->ci_extension * range);
+	}
+	if (span_name(r, maxo, maxy, &z->first_interval) || span_name(r, mino, miny, &z->last_interval))
+		return -1;
+	return 0;
+}
+
+static void relate(bc_range_taxon *t, bc_ranges_summary *u)
+{
+	const bc_range_zone *sh = &t->shallow, *dp = &t->deep;
+	t->relation = 0;
+	t->retreat_supported = -1;
+	if (!sh->n || !dp->n) {
+		if (sh->n)
+			u->n_shallow_only++;
+		else if (dp->n)
+			u->n_deep_only++;
+		else
+			u->n_straddle_only++;
+		return;
+	}
+	u->n_both++;
+	t->relation = bc_ranges__relation(sh->last_younger_ma, sh->last_older_ma, dp->first_younger_ma, dp->first_older_ma,
+		dp->last_younger_ma, dp->last_older_ma);
+	if (t->relation == BC_RANGE_ENDS_BEFORE)
+		u->n_ends_before++;
+	else if (t->relation == BC_RANGE_OVERLAPS)
+		u->n_overlaps++;
+	else if (t->relation == BC_RANGE_OUTLASTS)
+		u->n_outlasts++;
+	else
+		u->n_unresolved++;
+	if (!(t->relation & BC_RANGE_OUTLASTS)) {
+		/* The shallow range certainly ends no later than the deep one. */
+		t->retreat_supported = isfinite(sh->last_ci_ma) && sh->last_ci_ma >= dp->last_older_ma - EPS;
+		if (t->retreat_supported)
+			u->n_retreat_supported++;
+		else
+			u->n_retreat_weak++;
+	}
+}
+
+static int per_taxon(bc_ranges *r, bc_err *err)
+{
+	const bc_shift_options *o = &r->opts.sel;
+	size_t nz = o->zones_given ? o->n_zones + 1 : 0;
+	scratch s = {0};
+	const rocc **v = NULL, **w = NULL;
+	int rc = BC_OK;
+	qsort(r->occ, r->nocc, sizeof *r->occ, occ_cmp);
+	for (size_t i = 0; i < r->nocc; i++)
+		r->ntaxa += i == 0 || strcmp(r->occ[i].name, r->occ[i - 1].name) != 0;
+	r->taxa = bc__calloc(r->ntaxa, sizeof *r->taxa);
+	r->zones = nz ? bc__calloc(r->ntaxa * nz, sizeof *r->zones) : NULL;
+	s.refs = bc__calloc(r->nocc, sizeof *s.refs);
+	s.locs = bc__calloc(r->nocc, sizeof *s.locs);
+	s.mids = bc__calloc(r->nocc, sizeof *s.mids);
+	v = bc__calloc(r->nocc, sizeof *v);
+	w = bc__calloc(r->nocc, sizeof *w);
+	if (!r->taxa || (nz && !r->zones) || !s.refs || !s.locs || !s.mids || !v || !w) {
+		rc = oom(err);
+		goto done;
+	}
+	size_t t = 0;
+	for (size_t i = 0; i < r->nocc && rc == BC_OK;) {
+		size_t j = i;
+		while (j < r->nocc && strcmp(r->occ[j].name, r->occ[i].name) == 0)
+			j++;
+		bc_range_taxon *x = &r->taxa[t];
+		x->taxon = r->occ[i].name;
+		x->n = j - i;
+		for (size_t k = i; k < j; k++) {
+			v[k - i] = &r->occ[k];
+			x->n_straddle += r->occ[k].z2 < 0;
+		}
+		distinct_refs_locs(v, x->n, &s, &x->n_references, &x->n_localities);
+		for (int zone = 0; zone < 2 && rc == BC_OK; zone++) {
+			size_t m = 0;
+			for (size_t k = i; k < j; k++)
+				if (r->occ[k].z2 == zone)
+					w[m++] = &r->occ[k];
+			if (zone_fill(r, zone ? &x->deep : &x->shallow, w, m, &s))
+				rc = oom(err);
+		}
+		for (size_t zone = 0; zone < nz && rc == BC_OK; zone++) {
+			size_t m = 0;
+			for (size_t k = i; k < j; k++)
+				if (r->occ[k].zk == (int)zone)
+					w[m++] = &r->occ[k];
+			if (zone_fill(r, &r->zones[t * nz + zone], w, m, &s))
+				rc = oom(err);
+		}
+		x->zones = nz ? &r->zones[t * nz] : NULL;
+		relate(x, &r->sum);
+		t++;
+		i = j;
+	}
+	r->sum.n_taxa = r->ntaxa;
+	r->sum.n_used = r->nocc;
+done:
+	free(s.refs);
+	free(s.locs);
+	free(s.mids);
+	free(v);
+	free(w);
+	return rc;
+}
+
+/* ------------------------------------------------------------------ */
+/* Compute                                                              */
+/* ------------------------------------------------------------------ */
+
+void bc_ranges_free(bc_ranges *r)
+{
+	if (!r)
+		return;
+	free(r->group);
+	free(r->taxon);
+	free(r->preservation);
+	free(r->timescale);
+	free(r->db_path);
+	free(r->chart_name);
+	free(r->chart_source);
+	free(r->vocabs);
+	bc_chart_free(r->chart_owned);
+	for (size_t i = 0; i < r->nocc; i++) {
+		free(r->occ[i].name);
+		free(r->occ[i].ref);
+	}
+	free(r->occ);
+	free(r->taxa);
+	free(r->zones);
+	for (size_t i = 0; i < r->nstrs; i++)
+		free(r->strs[i]);
+	free(r->strs);
+	free(r);
+}
+
+static int dup_opt(char **dst, const char **field)
+{
+	if (!*field)
+		return 0;
+	if (!(*dst = bc__strdup(*field)))
+		return -1;
+	*field = *dst;
+	return 0;
+}
+
+static void excluded_words(const bc_ranges_summary *u, bc_buf *b)
+{
+	const struct { size_t n; const char *why; } ex[] = {
+		{u->n_no_coordinates, "no coordinates (--region)"}, {u->n_outside_region, "outside the region"},
+		{u->n_no_name, "no name at the rank"}, {u->n_no_depth, "no palaeodepth"},
+	};
+	for (size_t i = 0; i < sizeof ex / sizeof ex[0]; i++)
+		if (ex[i].n)
+			bc__buf_printf(b, "%s%zu %s", b->len ? ", " : "", ex[i].n, ex[i].why);
+}
+
+int bc_ranges_compute(bc_ranges **out, bc_db *db, const bc_ranges_options *opts, bc_err *err)
+{
+	*out = NULL;
+	bc_buf words = {0};
+	int rc = BC_OK;
+	const bc_shift_options *o = &opts->sel;
+	if (!o->n_zones || o->n_zones > BC_SHIFT_MAX_ZONES)
+		return bc_err_set(err, BC_EUSAGE, "ranges: no depth boundary (--split or --zones)");
+	if (!(o->level > 0 && o->level < 1))
+		return bc_err_set(err, BC_EUSAGE, "--level: %g is not between 0 and 1", o->level);
+	if ((unsigned)opts->rank > BC_RANGES_SPECIES)
+		return bc_err_set(err, BC_EUSAGE, "ranges: unknown rank %d", (int)opts->rank);
+	bc_ranges *r = bc__calloc(1, sizeof *r);
+	if (!r)
+		return oom(err);
+	r->opts = *opts;
+	bc_shift_options *so = &r->opts.sel;
+	if (dup_opt(&r->group, &so->group) || dup_opt(&r->taxon, &so->taxon) || dup_opt(&r->preservation, &so->preservation) ||
+	    dup_opt(&r->timescale, &so->timescale) || !(r->db_path = bc__strdup(bc_db_path(db)))) {
+		rc = oom(err);
+		goto done;
+	}
+	so->bins_file = NULL;
+	r->chart = so->chart;
+	if (!r->chart) {
+		if ((rc = bc_timescale_get(&r->chart_owned, db, so->timescale, err)) != BC_OK)
+			goto done;
+		r->chart = r->chart_owned;
+	}
+	if (!(r->chart_name = bc__strdup(bc_chart_name(r->chart))) || !(r->chart_source = bc__strdup(bc_chart_source(r->chart)))) {
+		rc = oom(err);
+		goto done;
+	}
+	if ((rc = read_vocabs(r, db, err)) || (rc = load(r, db, err)))
+		goto done;
+	bc_plot__selection_words(&words, so);
+	if (r->sum.n_selected == 0) {
+		rc = bc_err_set(err, BC_EINVALID, "%s: no occurrences match the selection (%s)", r->db_path, words.data ? words.data : "");
+		goto done;
+	}
+	if (r->nocc == 0) {
+		bc_buf ex = {0};
+		excluded_words(&r->sum, &ex);
+		rc = bc_err_set(err, BC_EINVALID, "%s: %zu occurrences match the selection (%s), but none is left to compare: %s",
+			r->db_path, r->sum.n_selected, words.data ? words.data : "", ex.data ? ex.data : "");
+		bc__buf_free(&ex);
+		goto done;
+	}
+	rc = per_taxon(r, err);
+done:
+	bc__buf_free(&words);
+	if (rc) {
+		bc_ranges_free(r);
+		return rc;
+	}
+	*out = r;
+	return BC_OK;
+}
+
+size_t bc_ranges_count(const bc_ranges *r) { return r->ntaxa; }
+const bc_range_taxon *bc_ranges_taxon_at(const bc_ranges *r, size_t i) { return i < r->ntaxa ? &r->taxa[i] : NULL; }
+const bc_ranges_summary *bc_ranges_summary_get(const bc_ranges *r) { return &r->sum; }
+
+/* ------------------------------------------------------------------ */
+/* Output                                                               */
+/* ------------------------------------------------------------------ */
+
+static const char *relation_text(unsigned rel, char *buf, size_t cap)
+{
+	static const struct { unsigned bit; const char *s; } names[] = {
+		{BC_RANGE_ENDS_BEFORE, "ends_before"}, {BC_RANGE_OVERLAPS, "overlaps"}, {BC_RANGE_OUTLASTS, "outlasts"},
+	};
+	size_t k = 0;
+	buf[0] = '\0';
+	for (size_t i = 0; i < 3; i++)
+		if (rel & names[i].bit)
+			k += (size_t)snprintf(buf + k, cap - k, "%s%s", k ? "|" : "", names[i].s);
+	return buf;
+}
+
+static const char *taxon_relation(const bc_range_taxon *t, char *buf, size_t cap)
+{
+	if (t->shallow.n && t->deep.n)
+		return relation_text(t->relation, buf, cap);
+	return t->shallow.n ? "shallow_only" : t->deep.n ? "deep_only" : "straddling_only";
+}
+
+static const struct { const char *suffix; bc_col_type type; int digits; } zone_cols[] = {
+	{"n", BC_COL_COUNT, 0}, {"references", BC_COL_COUNT, 0}, {"localities", BC_COL_COUNT, 0},
+	{"horizons", BC_COL_COUNT, 0}, {"first_older_ma", BC_COL_REAL, -1}, {"first_younger_ma", BC_COL_REAL, -1},
+	{"first_interval", BC_COL_TEXT, 0}, {"last_older_ma", BC_COL_REAL, -1}, {"last_younger_ma", BC_COL_REAL, -1},
+	{"last_interval", BC_COL_TEXT, 0}, {"first_ci_ma", BC_COL_REAL, 2}, {"last_ci_ma", BC_COL_REAL, 2},
+};
+#define N_ZONE_COLS (sizeof zone_cols / sizeof zone_cols[0])
+
+static int put_zone(bc_table *t, size_t col, const bc_range_zone *z, bc_err *err)
+{
+	const double num[] = {(double)z->n, (double)z->n_references, (double)z->n_localities, (double)z->n_horizons,
+		z->first_older_ma, z->first_younger_ma, NAN, z->last_older_ma, z->last_younger_ma, NAN, z->first_ci_ma, z->last_ci_ma};
+	for (size_t c = 0; c < N_ZONE_COLS; c++) {
+		if (zone_cols[c].type != BC_COL_TEXT) {
+			bc_output__set_num(t, col + c, num[c]);
+			continue;
+		}
+		const char *s = c == 6 ? z->first_interval : z->last_interval;
+		if (z->n && s && *s) {
+			int rc = bc_output__set_text(t, col + c, s, err);
+			if (rc)
+				return rc;
+		}
+	}
+	return BC_OK;
+}
+
+static void describe_options(const bc_ranges *r, bc_buf *b)
+{
+	const bc_shift_options *o = &r->opts.sel;
+	if (o->group)
+		bc__buf_printf(b, " --group '%s'", o->group);
+	if (o->taxon)
+		bc__buf_printf(b, " --taxon '%s'", o->taxon);
+	if (o->preservation)
+		bc__buf_printf(b, " --preservation '%s'", o->preservation);
+	if (o->has_region)
+		bc__buf_printf(b, " --region %g,%g,%g,%g", o->region[0], o->region[1], o->region[2], o->region[3]);
+	if (o->timescale)
+		bc__buf_printf(b, " --timescale '%s'", o->timescale);
+	bc__buf_printf(b, " --rank %s", r->opts.rank == BC_RANGES_SPECIES ? "scientificName" : rank_names[r->opts.rank]);
+	bc__buf_printf(b, " --%s ", o->zones_given ? "zones" : "split");
+	for (size_t i = 0; i < o->n_zones; i++)
+		bc__buf_printf(b, "%s%g", i ? "," : "", o->zones[i]);
+	bc__buf_printf(b, " --level %g", o->level);
+}
+
+static int build_table(const bc_ranges *r, bc_table **out, bc_err *err)
+{
+	bc_table *t = NULL;
+	bc_buf b = {0};
+	const bc_shift_options *o = &r->opts.sel;
+	size_t nz = o->zones_given ? o->n_zones + 1 : 0;
+	int rc = bc_output__table_new(&t, "taxa", err);
+	if (rc)
+		return rc;
+	static const struct { const char *name; bc_col_type type; } head[] = {
+		{"taxon", BC_COL_TEXT}, {"n", BC_COL_COUNT}, {"n_straddle", BC_COL_COUNT}, {"n_references", BC_COL_COUNT},
+		{"n_localities", BC_COL_COUNT}, {"relation", BC_COL_TEXT}, {"retreat_supported", BC_COL_TEXT},
+	};
+	const size_t nhead = sizeof head / sizeof head[0];
+	for (size_t i = 0; rc == BC_OK && i < nhead; i++)
+		rc = bc_output__add_column(t, head[i].name, head[i].type, 0, err);
+	char name[64];
+	for (size_t g = 0; rc == BC_OK && g < 2 + nz; g++)
+		for (size_t c = 0; rc == BC_OK && c < N_ZONE_COLS; c++) {
+			if (g < 2)
+				snprintf(name, sizeof name, "%s_%s", g ? "deep" : "shallow", zone_cols[c].suffix);
+			else
+				snprintf(name, sizeof name, "zone%zu_%s", g - 1, zone_cols[c].suffix);
+			rc = bc_output__add_column(t, name, zone_cols[c].type, zone_cols[c].digits, err);
+		}
+	for (size_t i = 0; rc == BC_OK && i < r->ntaxa; i++) {
+		const bc_range_taxon *x = &r->taxa[i];
+		char rel[64];
+		rc = bc_output__add_row(t, err);
+		if (rc == BC_OK)
+			rc = bc_output__set_text(t, 0, x->taxon, err);
+		if (rc == BC_OK) {
+			bc_output__set_num(t, 1, (double)x->n);
+			bc_output__set_num(t, 2, (double)x->n_straddle);
+			bc_output__set_num(t, 3, (double)x->n_references);
+			bc_output__set_num(t, 4, (double)x->n_localities);
+			rc = bc_output__set_text(t, 5, taxon_relation(x, rel, sizeof rel), err);
+		}
+		if (rc == BC_OK && x->retreat_supported >= 0)
+			rc = bc_output__set_text(t, 6, x->retreat_supported ? "yes" : "no", err);
+		if (rc == BC_OK)
+			rc = put_zone(t, nhead, &x->shallow, err);
+		if (rc == BC_OK)
+			rc = put_zone(t, nhead + N_ZONE_COLS, &x->deep, err);
+		for (size_t z = 0; rc == BC_OK && z < nz; z++)
+			rc = put_zone(t, nhead + (2 + z) * N_ZONE_COLS, &x->zones[z], err);
+	}
+	if (rc == BC_OK) {
+		bc__buf_printf(&b, "Depth ranges per %s: ", r->opts.rank == BC_RANGES_SPECIES ? "scientific name" : rank_names[r->opts.rank]);
+		bc_plot__selection_words(&b, o);
+		bc__buf_puts(&b, "; ");
+		bc_plot__zoning_words(&b, o);
+		bc__buf_printf(&b, "; chart %s; range-end limits at %g %% confidence (Marshall 1990).", r->chart_name, 100 * o->level);
+		rc = b.data ? bc_output__set_caption(t, b.data, err) : oom(err);
+		bc__buf_free(&b);
+	}
+	if (rc == BC_OK)
+		rc = bc_output__set_tests_title(t, "Taxa by relation", err);
+	const bc_ranges_summary *u = &r->sum;
+	const bc_meta_section T = BC_META_TESTS, S = BC_META_STAMP;
+	const struct { const char *key; size_t v; } counts[] = {
+		{"taxa", u->n_taxa}, {"taxa_shallow_only", u->n_shallow_only}, {"taxa_deep_only", u->n_deep_only},
+		{"taxa_straddling_only", u->n_straddle_only}, {"taxa_in_both_zones", u->n_both},
+		{"shallow_ends_before_deep_begins", u->n_ends_before}, {"shallow_ends_within_deep_range", u->n_overlaps},
+		{"shallow_outlasts_deep", u->n_outlasts}, {"relation_unresolved_by_ages", u->n_unresolved},
+		{"retreat_supported", u->n_retreat_supported}, {"retreat_weak", u->n_retreat_weak},
+	};
+	for (size_t i = 0; rc == BC_OK && i < sizeof counts / sizeof counts[0]; i++)
+		rc = bc_output__meta_num(t, T, counts[i].key, (double)counts[i].v, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "tool", err, "bathychron %s", BC_VERSION);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "database", err, "%s", r->db_path);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "chart", err, "%s%s%s%s", r->chart_name, *r->chart_source ? " (" : "", r->chart_source,
+			*r->chart_source ? ")" : "");
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "vocabularies", err, "%s", r->vocabs);
+	describe_options(r, &b);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "options", err, "%s", b.data ? b.data + 1 : "");
+	bc__buf_free(&b);
+	bc_plot__selection_words(&b, o);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "selection", err, "%s", b.data ? b.data : "");
+	bc__buf_free(&b);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "rank", err, "%s", r->opts.rank == BC_RANGES_GENUS
+			? "genus (the genus column, else the first word of scientificName)"
+			: r->opts.rank == BC_RANGES_SPECIES ? "scientificName as stored" : rank_names[r->opts.rank]);
+	bc_plot__zoning_words(&b, o);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "zones", err, "%s%s", b.data ? b.data : "",
+			o->zones_given ? "; zoneK columns use every boundary, shallow_/deep_ columns and the relation the first" : "");
+	bc__buf_free(&b);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "zone_rule", err, "at a boundary S a depth range [min, max] is shallow when max <= S and min < S, deep when min >= S, "
+			"otherwise straddling (in no zone); a single depth d is [d, d]; one missing end is taken as equal to the other");
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "range_ends", err, "first_older_ma/first_younger_ma: the largest older and younger bounds in the zone, so the first occurrence "
+			"lies between them; last_older_ma/last_younger_ma: the smallest, so the last occurrence lies between them; intervals: the finest chart interval "
+			"holding each (an older bound belongs to the interval below it, a younger bound to the one above it)");
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "relation", err, "of the last shallow occurrence (s) to the deep range (first f, last l): ends_before s older than f, "
+			"overlaps l <= s <= f, outlasts s younger than l; several joined by | when the age bounds allow each (bounds that only touch do not)");
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "ci_method", err, "Strauss & Sadler (1989) / Marshall (1990) confidence interval on one end of a stratigraphic range, "
+			"classical form: horizons = distinct midpoint ages in the zone (H), observed range R = oldest minus youngest midpoint, "
+			"r = (1 - C)^(-1/(H-1)) - 1 at C = %g; last_ci_ma = youngest midpoint - r R (not below 0), first_ci_ma = oldest midpoint + r R; "
+			"none for H < 2. Assumes horizons scattered at random (uniformly) through the true range", o->level);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "retreat_supported", err, "yes when the shallow range certainly ends no later than the deep one (no outlasts) and last_ci_ma "
+			"of the shallow zone is still no younger than the deep zone's last_older_ma; no when it ends first but the limit reaches the deep range's end, "
+			"or there is one shallow horizon only; NA otherwise");
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, S, "level", o->level, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "data_sha256", err, "%s", u->data_sha256);
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, S, "selected", (double)u->n_selected, 0, err);
+	if (rc == BC_OK && o->has_region)
+		rc = bc_output__meta_num(t, S, "excluded_no_coordinates", (double)u->n_no_coordinates, 0, err);
+	if (rc == BC_OK && o->has_region)
+		rc = bc_output__meta_num(t, S, "excluded_outside_region", (double)u->n_outside_region, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, S, "excluded_no_name_at_rank", (double)u->n_no_name, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, S, "excluded_no_palaeodepth", (double)u->n_no_depth, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, S, "used", (double)u->n_used, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "draws", err, "none: age-uncertainty resampling is not available for ranges in this build");
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "caution", err, "%s", CAUTION);
+	if (rc) {
+		bc_output__table_free(t);
+		return rc;
+	}
+	*out = t;
+	return BC_OK;
+}
+
+int bc_ranges_write(const bc_ranges *r, FILE *f, bc_format format, bc_err *err)
+{
+	bc_table *t = NULL;
+	int rc = build_table(r, &t, err);
+	if (rc == BC_OK)
+		rc = bc_output__write(t, f, format, err);
+	bc_output__table_free(t);
+	return rc;
+}
+
+/* ------------------------------------------------------------------ */
+/* Figure                                                               */
+/* ------------------------------------------------------------------ */
+
+static void plot_zone(bc_plot_zone_range *p, const bc_range_zone *z)
+{
+	p->n = (double)z->n;
+	p->first_older_ma = z->first_older_ma;
+	p->first_younger_ma = z->first_younger_ma;
+	p->last_older_ma = z->last_older_ma;
+	p->last_younger_ma = z->last_younger_ma;
+	p->last_ci_ma = z->last_ci_ma;
+}
+
+int bc_ranges_plot(const char *path, const bc_ranges *r, const struct bc_plot_options *opt, bc_err *err)
+{
+	bc_plot_options o = BC_PLOT_OPTIONS_INIT;
+	bc_plot_format fmt;
+	bc_buf cap = {0};
+	int rc = bc_plot_format_from_path(&fmt, path, err);
+	if (rc != BC_OK)
+		return rc;
+	if (opt)
+		o = *opt;
+	o.level = r->opts.sel.level;
+	o.no_caveat = 1; /* the ranges caution replaces the shift figure's */
+	bc_plot_taxon_range *v = bc__calloc(r->ntaxa ? r->ntaxa : 1, sizeof *v);
+	if (!v)
+		return oom(err);
+	for (size_t i = 0; i < r->ntaxa; i++) {
+		v[i].label = r->taxa[i].taxon;
+		plot_zone(&v[i].shallow, &r->taxa[i].shallow);
+		plot_zone(&v[i].deep, &r->taxa[i].deep);
+	}
+	if (o.caption) {
+		if (bc__buf_printf(&cap, "%s%s" FIGURE_CAUTION, o.caption, *o.caption ? " " : "") || !cap.data) {
+			free(v);
+			return oom(err);
+		}
+		o.caption = cap.data;
+	} else {
+		size_t nstr = 0;
+		for (size_t i = 0; i < r->ntaxa; i++)
+			nstr += r->taxa[i].n_straddle;
+		int bad = 0;
+		bad |= bc__buf_printf(&cap, "Range of each %s in shallow and deep water; selection: ",
+			r->opts.rank == BC_RANGES_SPECIES ? "species" : rank_names[r->opts.rank]);
+		bad |= bc_plot__selection_words(&cap, &r->opts.sel);
+		bad |= bc__buf_puts(&cap, "; ");
+		bad |= bc_plot__zoning_words(&cap, &r->opts.sel);
+		bad |= bc__buf_printf(&cap, "; %zu occurrences of %zu taxa (%zu straddling, in neither bar). "
+			"Solid: the taxon certainly lived in the zone then; tinted: the age ranges of the first and last occurrences allow it. "
+			"Tick: %g %% confidence limit on the younger end from the number of horizons (Marshall 1990); none for one horizon. "
+			"Arrow: the limit lies beyond the axis. Numbers: shallow | deep occurrences. Chart %s. " FIGURE_CAUTION,
+			r->sum.n_used, r->ntaxa, nstr, 100 * r->opts.sel.level, r->chart_name);
+		if (bad || !cap.data) {
+			bc__buf_free(&cap);
+			free(v);
+			return oom(err);
+		}
+		o.caption = cap.data;
+	}
+	rc = bc_plot_ranges(path, v, r->ntaxa, r->chart, &o, err);
+	bc__buf_free(&cap);
+	free(v);
+	return rc;
+}
