@@ -104,6 +104,27 @@ typedef struct bc_affinity {
 void bc_resample__affinity(bc_affinity *out, const double *k, const double *n, const double *K, const double *N,
 			   size_t nb, int pooled, double alpha);
 
+/* ---- results kept with the table ------------------------------------ */
+
+/** What resample.c computed, kept with the table (bc_shift.rs). */
+struct bc_resample {
+	int has_draws;
+	bc_draw_result dr;
+	size_t n_pop, n_age_drawn, n_depth_drawn; /* draw population and how many get a drawn age / depth */
+	size_t replicates;          /* reference bootstrap and quota */
+	int has_refw;
+	size_t n_units;
+	int has_bg;
+	size_t bg_selected;         /* occurrences in the background computation */
+	int has_quota;
+	int has_taph;
+	bc_shift *art, *dis;        /* articulated-only and disarticulated-only tables; NULL when empty */
+	char art_note[1100], dis_note[1100];
+};
+
+/** The bin of `t` with the same bounds as `b`, or NULL (tables of subsets have their own bin spans). */
+const bc_shift_bin *bc_resample__same_bin(const bc_shift *t, const bc_shift_bin *b);
+
 /* ---- hooks called by shift.c --------------------------------------- */
 
 /** Parses the uncertainty options; returns 1 when `name` is not one of them. */

@@ -163,7 +163,7 @@ contains draws_latex_rng "$T/out" "% stamp.random_numbers: seed 1;"
 expect_status 2 draws_bootstrap_needs_draws $BC shift "$DB" --bootstrap
 same_text draws_bootstrap_needs_draws_message "$T/err" "bathychron: --bootstrap: needs --draws N (the number of bootstrap draws)"
 expect_status 2 draws_bad_count $BC shift "$DB" --draws many
-same_text draws_bad_count_message "$T/err" "bathychron: shift: --draws: 'many' is not a number of draws from 1 to 10000000
+same_text draws_bad_count_message "$T/err" "bathychron: shift: --draws: 'many' is not a number of draws from 1 to 1000000
 (see 'bathychron shift --help')"
 expect_status 2 draws_bad_seed $BC shift "$DB" --draws 10 --seed -1
 expect_status 2 draws_table_needs_taphonomy $BC shift "$DB" --table taphonomy

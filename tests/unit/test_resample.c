@@ -501,3 +501,51 @@ TEST(resample_run_fast_path)
 	/* a range crossing the gap after bin 30 is not a run */
 	CHECK_INT(bc_resample__run_length(bins, 40, 30, bins[30].younger + 0.01, bins[31].older - 0.01), 0);
 }
+
+/* Every allocation of a computation with all the options failing in turn:
+ * each attempt ends with BC_ENOMEM or succeeds (shift.c's words for error
+ * messages may be lost to a failed allocation without failing the
+ * computation), never a crash or a leak (the ASan build checks the leaks).
+ * The loop ends after 25 successes in a row: past the last allocation. */
+TEST(resample_survives_each_allocation_failure)
+{
+	bc_db *db = new_db("oom.gpkg");
+	CHECK(db);
+	CHECK(add_n(db, 12, "crinoids", 58, 54, 500, "articulated", "R1") == 0);
+	CHECK(add_n(db, 20, "crinoids", 58, 57, 50, "disarticulated", "R2") == 0);
+	CHECK(add_n(db, 20, "crinoids", 48, 47, 500, "disarticulated", "") == 0);
+	CHECK(add_n(db, 5, "echinoids", 48, 47, 50, "unknown", "R3") == 0);
+	int run_ok = 0, nomem = 0;
+	long k;
+	for (k = 1; k < 20000 && run_ok < 25; k++) {
+		bc_shift_options o = BC_SHIFT_OPTIONS_INIT;
+		bc_err err = {0};
+		bc_shift *s = NULL;
+		o.bins = BC_BINS_WIDTH;
+		o.bin_width = 5;
+		o.group = "crinoids";
+		o.draws = 20;
+		o.bootstrap = 1;
+		o.threads = 2;
+		o.weight_references = 1;
+		o.background = BC_BACKGROUND_BINNED;
+		o.quota = 5;
+		o.taphonomy = 1;
+		bc__alloc_fail_after(k);
+		int rc = bc_shift_compute(&s, db, &o, &err);
+		bc__alloc_fail_after(0);
+		if (rc == BC_OK) {
+			run_ok++;
+			CHECK(bc_shift_bin_at(s, 0)->has_draws);
+		} else {
+			CHECK_MSG(rc == BC_ENOMEM || rc == BC_EDB, "allocation %ld: %d %s", k, rc, err.msg);
+			CHECK(s == NULL);
+			run_ok = 0;
+			nomem++;
+		}
+		bc_shift_free(s);
+	}
+	CHECK_MSG(run_ok >= 25, "still failing at allocation %ld", k);
+	CHECK_MSG(nomem > 100, "only %d allocations failed", nomem);
+	bc_db_close(db);
+}
