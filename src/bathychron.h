@@ -573,7 +573,10 @@ typedef struct bc_shift_options {
 /**
  * Sets one option by its command-line name without the dashes ("group",
  * "taxon", "preservation", "region", "timescale", "bins", "span", "split",
- * "zones", "level"). `value` is borrowed where the field is a string.
+ * "zones", "level"; and "draws", "seed", "threads", "resample", "background",
+ * "quota", with the flags "bootstrap", "weight-references",
+ * "background-with-focal", "taphonomy" taking "yes" or "no"). `value` is
+ * borrowed where the field is a string.
  * Returns 0, or BC_EUSAGE with a message naming the option.
  */
 int bc_shift_option_set(bc_shift_options *opts, const char *name, const char *value, bc_err *err);

@@ -435,6 +435,9 @@ int bc_resample__draws(bc_draw_result *out, const bc_draw_spec *sp, double split
 			it.zone = o->zone2 == BC_SHIFT__STRADDLE ? Z_STRADDLE : o->zone2 == BC_SHIFT__DEEP ? Z_DEEP : Z_SHALLOW;
 		}
 		cat[i] = (uint8_t)(L ? L : it.bin < 0 || drawn_depth ? RUN_MAX + 1 : RUN_MAX + 2);
+		out->n_pop++;
+		out->n_age_drawn += it.bin < 0;
+		out->n_depth_drawn += (size_t)drawn_depth;
 		tmp[i] = it;
 		count[cat[i]]++;
 	}
@@ -677,22 +680,9 @@ static int run_draws(bc_shift *s, bc_err *err)
 	if (rc)
 		return rc;
 	rs->has_draws = 1;
-	/* population counts for the stamp (same rules as the engine) */
-	for (size_t i = 0; i < s->nocc; i++) {
-		const bc_shift__occ *x = &s->occ[i];
-		if (o->span == BC_SPAN_MAX && x->older - x->younger > o->span_max_myr)
-			continue;
-		if (bc_shift__place(s->bins, s->nbins, x->older, x->younger, NULL, NULL, NULL) == s->nbins)
-			continue;
-		rs->n_pop++;
-		if (o->resample & BC_RESAMPLE_AGE && x->older > x->younger) {
-			size_t k = bc_shift__place(s->bins, s->nbins, x->younger, x->younger, NULL, NULL, NULL);
-			if (!(k < s->nbins && s->bins[k].older >= x->older))
-				rs->n_age_drawn++;
-		}
-		if (o->resample & BC_RESAMPLE_DEPTH && x->zone2 == BC_SHIFT__STRADDLE)
-			rs->n_depth_drawn++;
-	}
+	rs->n_pop = rs->dr.n_pop;
+	rs->n_age_drawn = rs->dr.n_age_drawn;
+	rs->n_depth_drawn = rs->dr.n_depth_drawn;
 	size_t nd = o->draws, nb = s->nbins;
 	double *tmp = bc__malloc((nd ? nd : 1) * sizeof *tmp);
 	size_t *hist = bc__calloc(nb + 1, sizeof *hist);

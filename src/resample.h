@@ -61,6 +61,8 @@ typedef struct bc_draw_result {
 	int32_t *brk;               /* per draw: index of the bin after the breakpoint, -1 none */
 	double *trend_z, *trend_p;  /* per draw: Cochran-Armitage z and p (NaN when undefined) */
 	int threads_used;
+	size_t n_pop;               /* occurrences that can be counted (overlap a bin; not left out by --span max) */
+	size_t n_age_drawn, n_depth_drawn; /* of those, how many get a drawn age / a drawn depth */
 } bc_draw_result;
 
 /**
