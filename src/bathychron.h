@@ -810,6 +810,195 @@ int bc_ranges_plot(const char *path, const bc_ranges *r, const struct bc_plot_op
 /* == end of ranges section == */
 
 /* ------------------------------------------------------------------ */
+/* Injuries and encounter rates (encounter.c, injuries.c, encreport.c) */
+/* ------------------------------------------------------------------ */
+
+/* == injuries and encounter section == */
+
+/**
+ * How an incidence rate is obtained from a prevalence P of regenerating
+ * units (individuals or arms) and the mean duration D of the regenerating
+ * state. Both need a stationary population with constant rates.
+ */
+typedef enum bc_incidence_model {
+	/** Steady state, P / (1 - P) = I x D: I is per unit at risk (not
+	 * currently regenerating) per day. Freeman J, Hutchison GB (1980)
+	 * Prevalence, incidence and duration. Am J Epidemiol 112(5):707-723. */
+	BC_INCIDENCE_STEADY_STATE = 0,
+	/** Poisson injuries regardless of state, P = 1 - exp(-lambda x D):
+	 * lambda = -ln(1 - P) / D per unit per day. */
+	BC_INCIDENCE_POISSON
+} bc_incidence_model;
+
+/** "steady-state" or "poisson". Static storage. */
+const char *bc_incidence_model_name(bc_incidence_model model);
+/** Parses the names above. Returns 0 or BC_EUSAGE. */
+int bc_incidence_model_parse(bc_incidence_model *out, const char *name);
+
+/**
+ * Incidence from prevalence `p` (0..1) and duration `d` (> 0) in the given
+ * model, per unit of `d`'s time. Returns 0 for p = 0, +infinity for p = 1,
+ * NaN for p outside [0, 1] or d <= 0 (or either NaN).
+ */
+double bc_encounter_incidence(double p, double d, bc_incidence_model model);
+
+/** Incidence per unit of the whole population, I* = P / D (= I (1 - P) in
+ * the steady-state model). NaN for bad input as above. */
+double bc_encounter_per_capita(double p, double d);
+
+/** How the Monte Carlo draws the uncertain inputs. */
+typedef struct bc_encounter_mc {
+	long draws;           /* Monte Carlo draws; 0 = no intervals from the MC */
+	uint64_t seed;        /* the same seed gives the same intervals */
+	double level;         /* confidence level, e.g. 0.95 */
+	bc_incidence_model model;
+	int shared_duration;  /* 1: one duration draw per MC draw for every group
+				 (durations assumed equal everywhere: cancels in
+				 ratios); 0: independent per group */
+} bc_encounter_mc;
+#define BC_ENCOUNTER_MC_INIT {10000, 1, 0.95, BC_INCIDENCE_STEADY_STATE, 0}
+
+/**
+ * One group of units (the individuals, or the arms, of a depth zone, site
+ * or bin). The caller fills the inputs; bc_encounter_compute fills the rest.
+ * Rates are per unit per day; intervals between encounters in days.
+ */
+typedef struct bc_encounter_group {
+	/* inputs */
+	double n;             /* units examined */
+	double x;             /* units regenerating, 0 <= x <= n */
+	double duration_min;  /* days, > 0: the shortest plausible mean duration */
+	double duration_max;  /* days, >= duration_min */
+	/* outputs */
+	double prevalence, prevalence_lo, prevalence_hi; /* x / n; Wilson interval */
+	double duration;      /* midpoint of [duration_min, duration_max] */
+	double incidence, incidence_lo, incidence_hi;    /* per unit per day */
+	double per_capita;    /* P / D */
+	double interval, interval_lo, interval_hi;       /* 1 / incidence, days */
+	double ratio, ratio_lo, ratio_hi;                /* incidence / that of the reference group */
+} bc_encounter_group;
+
+/**
+ * Fills the outputs of k groups. Point estimates use x / n and the
+ * midpoint duration. Intervals come from mc->draws Monte Carlo draws:
+ * the prevalence from its Jeffreys posterior Beta(x + 1/2, n - x + 1/2)
+ * (finite and positive at x = 0 and x = n, where a parametric bootstrap
+ * would collapse) and the duration uniform on [duration_min, duration_max];
+ * the limits are percentiles of the drawn incidences. Where the data do not
+ * bound a rate, the limit is stated as such: x = 0 gives incidence_lo = 0
+ * (interval_hi = +inf), x = n gives incidence_hi = +inf (interval_lo = 0).
+ * The ratio of each group to group `ref` uses the same paired draws
+ * (groups are independent samples). A group with n = 0 gets NaN outputs.
+ * Returns 0, BC_EINVALID (file-less message naming the group index) for
+ * bad inputs, BC_EUSAGE for bad options, or BC_ENOMEM.
+ */
+int bc_encounter_compute(bc_encounter_group *groups, size_t k, size_t ref,
+			 const bc_encounter_mc *mc, bc_err *err);
+
+/** What bc_injuries_import does; initialise with BC_INJURIES_IMPORT_OPTIONS_INIT. */
+typedef struct bc_injuries_import_options {
+	const char *timescale;  /* chart to resolve ages with; NULL = the database's default */
+	int dry_run;            /* validate and count, store nothing */
+	/* Called once per quarantined row with its "FILE:LINE: field: reason"
+	 * (may be NULL). The row is stored in the quarantine table as well. */
+	void (*on_problem)(void *ctx, const char *message);
+	void *ctx;
+} bc_injuries_import_options;
+#define BC_INJURIES_IMPORT_OPTIONS_INIT {NULL, 0, NULL, NULL}
+
+/** What an import did. */
+typedef struct bc_injuries_import_result {
+	int64_t batch_id;       /* the import_batches row (kind 'injuries'); 0 on a dry run */
+	long n_read;            /* data rows read */
+	long n_stored;          /* rows stored in injury_samples */
+	long n_quarantined;     /* rows kept in the quarantine with their reason */
+	long n_individuals;     /* individuals examined in the stored rows */
+	long n_regenerating;    /* of which regenerating */
+} bc_injuries_import_result;
+
+/**
+ * Imports a CSV/TSV of injury samples (columns: doc/encounter.md) in one
+ * transaction with one import_batches row of kind 'injuries'. Every row
+ * that cannot be used goes to the quarantine with file, line, field,
+ * reason and the raw row; the import still succeeds (check
+ * out->n_quarantined). A file whose content was already imported gives
+ * BC_EEXISTS and changes nothing. A file that cannot be read as CSV, or
+ * lacks a required column, gives BC_EINVALID and changes nothing.
+ */
+int bc_injuries_import(bc_injuries_import_result *out, bc_db *db, const char *path,
+		       const bc_injuries_import_options *opts, bc_err *err);
+
+/** How `bathychron encounter` groups the samples. */
+typedef enum bc_encounter_by {
+	BC_ENCOUNTER_BY_ZONE = 0, /* one row per depth zone, all ages pooled */
+	BC_ENCOUNTER_BY_SITE,     /* one row per site and zone */
+	BC_ENCOUNTER_BY_BIN       /* one row per age (as resolved; Recent apart) and zone */
+} bc_encounter_by;
+
+/** "zone", "site", "bin". Static storage. */
+const char *bc_encounter_by_name(bc_encounter_by by);
+/** Parses the names above. Returns 0 or BC_EUSAGE. */
+int bc_encounter_by_parse(bc_encounter_by *out, const char *name);
+
+/** What bc_encounter_report_build computes; initialise with BC_ENCOUNTER_OPTIONS_INIT. */
+typedef struct bc_encounter_options {
+	bc_encounter_by by;
+	const double *zones;   /* zone boundaries in metres, increasing (borrowed);
+				  NULL = one boundary at 200 m. A sample whose depth
+				  range crosses a boundary is left out and counted. */
+	size_t n_zones;
+	const char *taxon;     /* only samples of this taxon (exact, or a genus
+				  matching the first word); NULL = all */
+	bc_encounter_mc mc;
+} bc_encounter_options;
+#define BC_ENCOUNTER_OPTIONS_INIT {BC_ENCOUNTER_BY_ZONE, NULL, 0, NULL, BC_ENCOUNTER_MC_INIT}
+
+/** One row of the encounter table. Strings are borrowed from the report. */
+typedef struct bc_encounter_row {
+	const char *bin;       /* "all", "Recent", or the resolved age ("Campanian", "Campanian-Maastrichtian", "83.6-72.1 Ma") */
+	const char *zone;      /* zone label, e.g. "shallow (<200 m)" */
+	int zone_index;        /* 0 = shallowest */
+	const char *site;      /* the site when grouped by site, else "" */
+	double min_depth_m, max_depth_m; /* depth extent of its samples */
+	double older_ma, younger_ma;     /* age extent of its samples (0, 0 for Recent) */
+	long n_samples;        /* rows of injury_samples pooled here */
+	bc_encounter_group individuals;  /* per individual */
+	bc_encounter_group arms;         /* per arm, from samples with arm counts (n = 0: none) */
+	long ratio_to;         /* index of the row whose rate the ratios divide by */
+} bc_encounter_row;
+
+typedef struct bc_encounter_report bc_encounter_report;
+
+/**
+ * Reads the stored injury samples, groups them and computes every row.
+ * BC_ENOTFOUND when no sample matches. The report is the caller's; free it
+ * with bc_encounter_report_free.
+ */
+int bc_encounter_report_build(bc_encounter_report **out, bc_db *db, const bc_encounter_options *opts, bc_err *err);
+size_t bc_encounter_report_count(const bc_encounter_report *r);
+/** Row i (0-based), or NULL. Borrowed. */
+const bc_encounter_row *bc_encounter_report_row(const bc_encounter_report *r, size_t i);
+/** Samples left out because their depth range crosses a zone boundary. */
+long bc_encounter_report_straddling(const bc_encounter_report *r);
+/**
+ * Writes the table with its methods stamp and cautions in `format`
+ * (columns: doc/encounter.md). BC_EIO when the stream fails.
+ */
+int bc_encounter_report_write(const bc_encounter_report *r, FILE *f, bc_format format, bc_err *err);
+void bc_encounter_report_free(bc_encounter_report *r);
+
+/**
+ * Draws the mean interval between injuring encounters per row (individuals,
+ * log scale) with its interval, unbounded limits as arrows, counts under
+ * each column and the model's cautions in the caption; SVG, PDF or PNG
+ * (300 dpi) by the extension of `path`. `width_mm` 85 for one journal
+ * column, 180 for two. Returns 0, BC_EUSAGE (extension, width), BC_EIO.
+ */
+int bc_encounter_plot(const bc_encounter_report *r, const char *path, double width_mm, bc_err *err);
+
+/* == end of injuries and encounter section == */
+
+/* ------------------------------------------------------------------ */
 /* Figures (plot.c)                                                    */
 /* ------------------------------------------------------------------ */
 

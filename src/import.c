@@ -205,6 +205,8 @@ static int gather_cells(importer *im)
 		int col = im->plan.term_col[t];
 		const char *v = col >= 0 && (size_t)col < nf ? bc_csv__field(im->csv, (size_t)col) : "";
 		im->cell_off[t] = put_cell(im, v, 1);
+		if (im->oom || !im->scratch.data)
+			return BC_ENOMEM;
 		if (!im->scratch.data[im->cell_off[t]] && im->plan.defaults[t])
 			im->cell_off[t] = put_cell(im, im->plan.defaults[t], 1);
 	}

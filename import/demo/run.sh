@@ -50,6 +50,10 @@ done
 
 step "8. per-taxon depth ranges (genus) with their figure"
 must run ranges $db --group stalked --rank genus --format md -o demo-output/ranges.md --figure demo-output/ranges.png
+step "9. injuries: an invented survey of regenerating arms (two rows deliberately bad), and the interval between predator encounters by depth"
+run injuries import $db import/demo/injuries.csv
+must run encounter $db --by bin --format md -o demo-output/encounter.md --figure demo-output/encounter.png
+sed -n '1,6p' demo-output/encounter.md
 echo
 echo "demo finished: every file is in demo-output/"
 ls demo-output

@@ -91,5 +91,7 @@ int cmd_shift(int argc, char **argv);
 int cmd_plot(int argc, char **argv);
 int cmd_ranges(int argc, char **argv);
 int cmd_export(int argc, char **argv);
+int cmd_injuries(int argc, char **argv);
+int cmd_encounter(int argc, char **argv);
 
 #endif

@@ -25,6 +25,8 @@ static const struct command {
 	{"plot", cmd_plot, "draw the shift as a figure (SVG, PDF or PNG)"},
 	{"ranges", cmd_ranges, "per taxon, its range in each depth zone and how the shallow range ends"},
 	{"export", cmd_export, "write stored occurrences as CSV or a Darwin Core Archive"},
+	{"injuries", cmd_injuries, "import samples examined for regenerating arms (injuries import DB FILE)"},
+	{"encounter", cmd_encounter, "injury incidence and interval between predator encounters by depth"},
 };
 
 static void usage(FILE *f)

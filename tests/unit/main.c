@@ -6,6 +6,7 @@
 
 #include <stdarg.h>
 #include <stdlib.h>
+#include <sys/wait.h>
 #include <unistd.h>
 
 int test__failed;
@@ -33,19 +34,25 @@ static void remove_tmpdir(void)
 	}
 }
 
+static void make_tmproot(void)
+{
+	if (tmpdir[0])
+		return;
+	snprintf(tmpdir, sizeof tmpdir, "/tmp/bc-unit-XXXXXX");
+	if (!mkdtemp(tmpdir)) {
+		perror("mkdtemp");
+		exit(3);
+	}
+	atexit(remove_tmpdir);
+}
+
 const char *test_tmpdir(void)
 {
 	static int counter;
 	static char dir[300];
-	if (!tmpdir[0]) {
-		snprintf(tmpdir, sizeof tmpdir, "/tmp/bc-unit-XXXXXX");
-		if (!mkdtemp(tmpdir)) {
-			perror("mkdtemp");
-			exit(3);
-		}
-		atexit(remove_tmpdir);
-	}
-	snprintf(dir, sizeof dir, "%s/%d", tmpdir, ++counter);
+	make_tmproot();
+	/* the pid keeps children (one per test) apart */
+	snprintf(dir, sizeof dir, "%s/%d-%d", tmpdir, (int)getpid(), ++counter);
 	char cmd[400];
 	snprintf(cmd, sizeof cmd, "mkdir -p '%s'", dir);
 	if (system(cmd) != 0)
@@ -73,22 +80,52 @@ static const struct { const char *name; void (*fn)(void); } tests[] = {
 #undef X
 };
 
+/* Each test runs in its own child process, so a crash is reported as that
+ * test's failure and the others still run. */
+static int run_one(const char *name, void (*fn)(void))
+{
+	fflush(stdout);
+	pid_t pid = fork();
+	if (pid < 0) {
+		perror("fork");
+		exit(3);
+	}
+	if (pid == 0) {
+		test__failed = 0;
+		test__msg[0] = '\0';
+		fn();
+		if (test__failed)
+			printf("FAIL unit/%s: %s\n", name, test__msg);
+		else
+			printf("ok unit/%s\n", name);
+		fflush(stdout);
+		_exit(test__failed ? 1 : 0);
+	}
+	int status = 0;
+	while (waitpid(pid, &status, 0) < 0)
+		;
+	if (WIFSIGNALED(status)) {
+		printf("FAIL unit/%s: crashed with signal %d\n", name, WTERMSIG(status));
+		return 0;
+	}
+	if (WIFEXITED(status) && WEXITSTATUS(status) > 1) {
+		printf("FAIL unit/%s: exited with status %d\n", name, WEXITSTATUS(status));
+		return 0;
+	}
+	return WIFEXITED(status) && WEXITSTATUS(status) == 0;
+}
+
 int main(int argc, char **argv)
 {
 	int passed = 0, failed = 0;
+	make_tmproot(); /* in the parent, so atexit removes it once */
 	for (size_t i = 0; i < sizeof tests / sizeof tests[0]; i++) {
 		if (argc > 1 && !strstr(tests[i].name, argv[1]))
 			continue;
-		test__failed = 0;
-		test__msg[0] = '\0';
-		tests[i].fn();
-		if (test__failed) {
-			printf("FAIL unit/%s: %s\n", tests[i].name, test__msg);
-			failed++;
-		} else {
-			printf("ok unit/%s\n", tests[i].name);
+		if (run_one(tests[i].name, tests[i].fn))
 			passed++;
-		}
+		else
+			failed++;
 		fflush(stdout);
 	}
 	printf("# unit: %d passed, %d failed\n", passed, failed);
