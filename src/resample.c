@@ -34,7 +34,7 @@ static int oom(bc_err *err) { return bc_err_set(err, BC_ENOMEM, "out of memory")
 /* Random numbers                                                       */
 /* ------------------------------------------------------------------ */
 
-/* splitmix64's output function (Steele, Lea & Flood 2014). */
+/* splitmix64's output function (Steele, Lea & Flood 2014), to mix the key. */
 static uint64_t mix64(uint64_t z)
 {
 	z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ULL;
@@ -46,21 +46,16 @@ static uint64_t mix64(uint64_t z)
 
 void bc_resample__rng_init(bc_rng *r, uint64_t seed, uint64_t stream, uint64_t index)
 {
-	/* A key from (seed, stream, index), then four splitmix64 outputs from
-	 * it as the xoshiro256** state (the seeding Blackman & Vigna advise). */
 	uint64_t key = mix64(seed + GOLDEN * (stream + 1));
 	key = mix64(key ^ (index + 1) * GOLDEN);
-	uint64_t x = key;
-	for (int i = 0; i < 4; i++) {
-		x += GOLDEN;
-		r->s[i] = mix64(x);
-	}
-	if (!(r->s[0] | r->s[1] | r->s[2] | r->s[3]))
-		r->s[0] = 1; /* the one forbidden state */
+	bc_rng__seed(r, key); /* four splitmix64 outputs from the key */
 }
 
 static uint64_t rotl(uint64_t x, int k) { return (x << k) | (x >> (64 - k)); }
 
+/* xoshiro256**'s step, as bc_rng__next in encounter.c, inlined here
+ * because the draw loop calls it for every occurrence; the unit test
+ * resample_stream_seeding_pinned checks that the two give the same stream. */
 static inline uint64_t rng_next(bc_rng *r)
 {
 	uint64_t *s = r->s;
@@ -109,17 +104,6 @@ uint64_t bc_resample__below(bc_rng *r, uint64_t n)
 	}
 }
 
-double bc_resample__quantile(const double *x, size_t n, double q)
-{
-	if (n == 0)
-		return NAN;
-	double h = (double)(n - 1) * q;
-	size_t lo = (size_t)floor(h);
-	if (lo + 1 >= n)
-		return x[n - 1];
-	return x[lo] + (h - (double)lo) * (x[lo + 1] - x[lo]);
-}
-
 static int cmp_double(const void *a, const void *b)
 {
 	double x = *(const double *)a, y = *(const double *)b;
@@ -136,9 +120,9 @@ static double summarise(const double *v, size_t n, size_t stride, double level, 
 		if (isfinite(v[i * stride]))
 			tmp[m++] = v[i * stride];
 	qsort(tmp, m, sizeof *tmp, cmp_double);
-	*lo = bc_resample__quantile(tmp, m, (1 - level) / 2);
-	*mid = bc_resample__quantile(tmp, m, 0.5);
-	*hi = bc_resample__quantile(tmp, m, (1 + level) / 2);
+	*lo = bc_encounter__quantile(tmp, m, (1 - level) / 2);
+	*mid = bc_encounter__quantile(tmp, m, 0.5);
+	*hi = bc_encounter__quantile(tmp, m, (1 + level) / 2);
 	return n ? (double)m / (double)n : NAN;
 }
 

@@ -15,27 +15,23 @@
 
 /* ---- random numbers ------------------------------------------------ */
 
-/**
- * xoshiro256** (Blackman & Vigna 2021), one generator per draw. Its state
- * comes from splitmix64 (Steele, Lea & Flood 2014) keyed by (seed, stream,
+/*
+ * The generator is encounter.c's bc_rng (xoshiro256**, Blackman & Vigna
+ * 2021, its state filled by splitmix64, Steele, Lea & Flood 2014). Each
+ * draw gets its own generator, seeded with a key mixed from (seed, stream,
  * index), so a draw's numbers depend only on those three values, never on
  * which thread runs it or in which order.
  */
-typedef struct bc_rng {
-	uint64_t s[4];
-} bc_rng;
+#include "encounter.h"
 
 /** Seeds `r` for draw `index` of `stream` (1 draws, 2 reference bootstrap, 3 quota). */
 void bc_resample__rng_init(bc_rng *r, uint64_t seed, uint64_t stream, uint64_t index);
+/** The next output: the same as bc_rng__next, inlined in the draw loop (tested). */
 uint64_t bc_resample__next(bc_rng *r);
-/** Uniform on [0, 1) with 53 random bits. */
+/** Uniform on [0, 1) with 53 random bits (as bc_rng__uniform). */
 double bc_resample__uniform(bc_rng *r);
 /** Uniform integer in 0 .. n-1 (n > 0), without modulo bias. */
 uint64_t bc_resample__below(bc_rng *r, uint64_t n);
-
-/** Quantile q of n sorted values by linear interpolation between order
- * statistics (Hyndman & Fan 1996 type 7, numpy's default); NaN for n = 0. */
-double bc_resample__quantile(const double *sorted, size_t n, double q);
 
 /* ---- resampling draws ---------------------------------------------- */
 

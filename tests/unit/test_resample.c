@@ -42,6 +42,11 @@ TEST(resample_stream_seeding_pinned)
 	bc_resample__rng_init(&r, UINT64_MAX, 3, 1000000);
 	CHECK(bc_resample__next(&r) == 0xee2fa749a325beccULL);
 	bc_rng a, b;
+	/* the draw loop's inlined step gives bc_rng__next's stream */
+	bc_resample__rng_init(&a, 3, 1, 9);
+	b = a;
+	for (int i = 0; i < 1000; i++)
+		CHECK(bc_resample__next(&a) == bc_rng__next(&b));
 	bc_resample__rng_init(&a, 1, 1, 0);
 	bc_resample__rng_init(&b, 1, 1, 1);
 	CHECK(bc_resample__next(&a) != bc_resample__next(&b));
@@ -73,17 +78,18 @@ TEST(resample_uniform_and_below)
 	CHECK(bc_resample__below(&r, 1) == 0);
 }
 
-/* Hyndman & Fan type 7 = numpy.quantile's default (linear). */
+/* The quantile rule the draws use (encounter.c's): Hyndman & Fan type 7 =
+ * numpy.quantile's default (linear). */
 TEST(resample_quantile_type7)
 {
 	const double x[] = {1, 2, 3, 4};
-	CHECK_NEAR(bc_resample__quantile(x, 4, 0.25), 1.75, 1e-15);
-	CHECK_NEAR(bc_resample__quantile(x, 4, 0.5), 2.5, 1e-15);
-	CHECK_NEAR(bc_resample__quantile(x, 4, 0.975), 3.925, 1e-12);
-	CHECK_NEAR(bc_resample__quantile(x, 4, 0), 1, 0);
-	CHECK_NEAR(bc_resample__quantile(x, 4, 1), 4, 0);
-	CHECK_NEAR(bc_resample__quantile(x, 1, 0.3), 1, 0);
-	CHECK(isnan(bc_resample__quantile(x, 0, 0.5)));
+	CHECK_NEAR(bc_encounter__quantile(x, 4, 0.25), 1.75, 1e-15);
+	CHECK_NEAR(bc_encounter__quantile(x, 4, 0.5), 2.5, 1e-15);
+	CHECK_NEAR(bc_encounter__quantile(x, 4, 0.975), 3.925, 1e-12);
+	CHECK_NEAR(bc_encounter__quantile(x, 4, 0), 1, 0);
+	CHECK_NEAR(bc_encounter__quantile(x, 4, 1), 4, 0);
+	CHECK_NEAR(bc_encounter__quantile(x, 1, 0.3), 1, 0);
+	CHECK(isnan(bc_encounter__quantile(x, 0, 0.5)));
 }
 
 /* check-values.md section 12 worked example: bin 1 taxon 5 deep of 6,
@@ -260,7 +266,7 @@ TEST(resample_coverage_known_shift)
 						tmp[j] = tmp[j - 1];
 						tmp[j - 1] = x;
 					}
-				double lo = bc_resample__quantile(tmp, m, 0.025), hi = bc_resample__quantile(tmp, m, 0.975);
+				double lo = bc_encounter__quantile(tmp, m, 0.025), hi = bc_encounter__quantile(tmp, m, 0.975);
 				cover[boot][b] += lo <= p[b] && p[b] <= hi;
 			}
 			if (boot) {
