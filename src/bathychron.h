@@ -426,6 +426,27 @@ int bc_export_csv(bc_db *db, FILE *out, long long *n_rows, bc_err *err);
 /* == end of ingest section == */
 
 /* ------------------------------------------------------------------ */
+/* Darwin Core Archives (dwca.c, dwca_write.c)                         */
+/* ------------------------------------------------------------------ */
+
+/* == dwca section == */
+
+/**
+ * Writes the stored occurrences as a Darwin Core Archive: `path` ending in
+ * ".zip" gives a zip file, any other path a new folder. The archive holds
+ * meta.xml, eml.xml, occurrence.txt (Darwin Core terms; the project's five
+ * terms under https://bathychron.invalid/terms/; extra columns under
+ * https://bathychron.invalid/columns/) and chronometricage.txt (ages in
+ * Ma). Importing it stores the same occurrences (doc/dwca.md). An existing
+ * `path` gives BC_EEXISTS and is not touched. `*n_rows` (may be NULL) gets
+ * the number of occurrences written. (Reading an archive goes through
+ * bc_import_file, which recognises a zip file or a folder with meta.xml.)
+ */
+int bc_export_dwca(bc_db *db, const char *path, long long *n_rows, bc_err *err);
+
+/* == end of dwca section == */
+
+/* ------------------------------------------------------------------ */
 /* Coordinates and localities (geo.c)                                  */
 /* ------------------------------------------------------------------ */
 
@@ -512,6 +533,16 @@ typedef enum bc_span_rule {
 
 #define BC_SHIFT_MAX_ZONES 16
 
+/** What each resampling draw varies (bit flags of bc_shift_options.resample). */
+enum { BC_RESAMPLE_AGE = 1, BC_RESAMPLE_DEPTH = 2 };
+
+/** The background of the depth-affinity test (bc_shift_options.background). */
+typedef enum bc_background {
+	BC_BACKGROUND_NONE = 0,
+	BC_BACKGROUND_BINNED, /* expected share = sum over bins of n_b K_b/N_b, divided by n */
+	BC_BACKGROUND_POOLED  /* expected share = K/N pooled over the bins the selection occupies */
+} bc_background;
+
 /**
  * Options of bc_shift_compute. Strings are borrowed: they must outlive
  * the computation. Fill with BC_SHIFT_OPTIONS_INIT, then set fields
@@ -538,16 +569,35 @@ typedef struct bc_shift_options {
 	int zones_given;            /* 1 when set by --zones (per-zone columns are written) */
 	/* statistics */
 	double level;               /* confidence level of every interval */
+	/* uncertainty and bias (resample.c; doc/shift.md, "Uncertainty and bias") */
+	size_t draws;               /* age/depth resampling draws; 0: none. Also the replicate count below */
+	uint64_t seed;              /* seed of every random stream (default 1) */
+	int threads;                /* worker threads; 0: one per online processor. Never changes results */
+	unsigned resample;          /* BC_RESAMPLE_AGE | BC_RESAMPLE_DEPTH (default both), or 0 */
+	int bootstrap;              /* 1: each draw also resamples occurrences with replacement */
+	int weight_references;      /* 1: reference-weighted deep share, bootstrap over references */
+	bc_background background;   /* depth affinity against all occurrences of the same bins */
+	int background_with_focal;  /* 1: the background includes the focal selection */
+	size_t quota;               /* > 0: subsample each bin to this many shallow + deep occurrences */
+	int taphonomy;              /* 1: articulated-only sensitivity and the transport flag */
 } bc_shift_options;
 
-/** Defaults: no selection, default chart, stage bins, majority rule, split at 200 m, 95 %. */
+/** Defaults: no selection, default chart, stage bins, majority rule, split at 200 m, 95 %,
+ * no resampling (seed 1, both age and depth resampled once draws are asked for). */
 #define BC_SHIFT_OPTIONS_INIT { NULL, NULL, NULL, 0, {0, 0, 0, 0}, NULL, NULL, BC_BINS_STAGE, 0.0, NULL, \
-	BC_SPAN_MAJORITY, 0.0, 1, {200.0}, 0, 0.95 }
+	BC_SPAN_MAJORITY, 0.0, 1, {200.0}, 0, 0.95, 0, 1, 0, BC_RESAMPLE_AGE | BC_RESAMPLE_DEPTH, 0, 0, \
+	BC_BACKGROUND_NONE, 0, 0, 0 }
+
+/** Replicates used by --weight-references and --quota when `draws` is 0. */
+#define BC_SHIFT_DEFAULT_REPLICATES 1000
 
 /**
  * Sets one option by its command-line name without the dashes ("group",
  * "taxon", "preservation", "region", "timescale", "bins", "span", "split",
- * "zones", "level"). `value` is borrowed where the field is a string.
+ * "zones", "level"; and "draws", "seed", "threads", "resample", "background",
+ * "quota", with the flags "bootstrap", "weight-references",
+ * "background-with-focal", "taphonomy" taking "yes" or "no"). `value` is
+ * borrowed where the field is a string.
  * Returns 0, or BC_EUSAGE with a message naming the option.
  */
 int bc_shift_option_set(bc_shift_options *opts, const char *name, const char *value, bc_err *err);
@@ -567,6 +617,23 @@ typedef struct bc_shift_bin {
 	double fisher_p;            /* two-sided Fisher exact p of the same pair (counts rounded with --span split) */
 	const double *n_zone;       /* with --zones: n_zones + 1 counts, shallowest first; else NULL. Borrowed. */
 	double n_zone_straddle;     /* with --zones: ranges crossing at least one boundary */
+	/* Resampling draws (opts.draws > 0); NaN otherwise or when no draw put shallow or deep occurrences here. */
+	int has_draws;
+	double draw_lo, draw_mid, draw_hi; /* frac_deep over draws: (1-level)/2, 0.5, (1+level)/2 quantiles (2.5, 50, 97.5 % at 95 %) */
+	double draw_defined;        /* share of draws in which this bin had shallow or deep occurrences */
+	double draw_break_share;    /* share of draws whose breakpoint is this bin's older boundary */
+	/* Reference weighting (opts.weight_references): each reference present in the bin weighs 1. */
+	double refw_frac_deep, refw_lo, refw_hi; /* interval: bootstrap over references */
+	double n_ref_units;         /* references (plus one unit for occurrences without one) with shallow or deep occurrences */
+	/* Background (opts.background): all occurrences of the bin, the focal ones included or not. */
+	double bg_n, bg_deep;       /* background shallow + deep, and deep */
+	double bg_frac_deep;        /* bg_deep / bg_n */
+	double affinity_p_deep;     /* P(X >= n_deep), X ~ Binomial(n_shallow + n_deep, bg_frac_deep) */
+	double affinity_p_shallow;  /* P(X <= n_deep) */
+	/* Subsampling (opts.quota): frac_deep of `quota` occurrences drawn without replacement. */
+	double quota_lo, quota_mid, quota_hi; /* NaN when the bin has fewer than quota */
+	/* Taphonomy (opts.taphonomy): the articulated-only table's numbers for this bin. */
+	double art_n, art_frac_deep, art_lo, art_hi; /* shallow + deep articulated, its share, Wilson interval */
 } bc_shift_bin;
 
 /** Tests across the bins that have shallow or deep occurrences. NaN when not computable. */
@@ -578,6 +645,21 @@ typedef struct bc_shift_tests {
 	double break_ma;                  /* boundary age of the most likely single breakpoint */
 	const char *break_before, *break_after; /* the bins either side (older, younger). Borrowed. */
 	double break_lr;                  /* 2 (logL split - logL constant) */
+	/* Resampling draws (opts.draws > 0). */
+	size_t n_draws;
+	double draw_trend_z_lo, draw_trend_z_mid, draw_trend_z_hi; /* quantiles of the trend z over draws */
+	double draw_trend_sig_share;      /* share of draws with two-sided trend p < 1 - level */
+	double draw_break_mode_share;     /* share of draws with the most frequent breakpoint */
+	const char *draw_break_before, *draw_break_after; /* that breakpoint's bins (older, younger). Borrowed. */
+	/* Background (opts.background), over the bins where the selection has shallow or deep occurrences. */
+	double aff_k, aff_n, aff_p0, aff_expected; /* deep, shallow + deep (rounded), expected share and count */
+	double aff_p_deep, aff_p_shallow; /* one-sided binomial tails */
+	const char *aff_verdict;          /* "deep", "shallow" or "none" at alpha = 1 - level. Static. */
+	/* Taphonomy (opts.taphonomy). */
+	size_t art_bins_tested;
+	double art_trend_z, art_trend_p, art_logit_slope, art_logit_p;
+	int transport_flag;               /* 1: a shift carried by disarticulated material (doc/shift.md) */
+	const char *taphonomy_verdict;    /* one line in words. Static. */
 } bc_shift_tests;
 
 /** What the selection and the rules did to the data. */
@@ -615,6 +697,14 @@ int bc_shift_write(const bc_shift *s, FILE *f, bc_format format, bc_err *err);
 
 /** Writes a methods paragraph (plain text) describing exactly what was done, with references. */
 int bc_shift_write_methods(const bc_shift *s, FILE *f, bc_err *err);
+
+/**
+ * Writes the taphonomic sensitivity table (needs opts.taphonomy): per bin
+ * the deep share in all, articulated-only and disarticulated-only
+ * material with Wilson intervals, the trend tests of each, the transport
+ * flag and the methods stamp. BC_EUSAGE without opts.taphonomy.
+ */
+int bc_shift_write_taphonomy(const bc_shift *s, FILE *f, bc_format format, bc_err *err);
 
 /* == end of shift section == */
 

@@ -7,6 +7,7 @@
 #include "colmap.h"
 #include "csvio.h"
 #include "depth.h"
+#include "dwca.h"
 #include "geo.h"
 #include "locality.h"
 #include "vocab.h"
@@ -107,6 +108,8 @@ typedef struct importer {
 	bc_import_result *r;
 	const char *name;
 	bc_csv *csv;
+	bc_dwca *dwca;           /* set instead of csv for a Darwin Core Archive */
+	const char *batch_name;  /* the file as named in the batch (im->name follows the archive's data files) */
 	char **headers;
 	size_t nh;
 	bc_colplan plan;
@@ -135,6 +138,28 @@ typedef struct importer {
 	loc_slot *locs;
 	size_t nlocs;
 } importer;
+
+/* ---- the row source: a CSV/TSV reader or a Darwin Core Archive ------ */
+
+static size_t src_nfields(const importer *im)
+{
+	return im->dwca ? bc_dwca__ncolumns(im->dwca) : bc_csv__nfields(im->csv);
+}
+
+static const char *src_field(const importer *im, size_t i)
+{
+	return im->dwca ? bc_dwca__value(im->dwca, i) : bc_csv__field(im->csv, i);
+}
+
+static long src_line(const importer *im)
+{
+	return im->dwca ? bc_dwca__line(im->dwca) : bc_csv__line(im->csv);
+}
+
+static int src_next(importer *im, bc_err *err)
+{
+	return im->dwca ? bc_dwca__next(im->dwca, err) : bc_csv__next(im->csv, err);
+}
 
 /* ---- problems -------------------------------------------------------- */
 
@@ -199,11 +224,11 @@ static int gather_cells(importer *im)
 {
 	im->scratch.len = 0;
 	im->oom = 0;
-	size_t nf = bc_csv__nfields(im->csv);
+	size_t nf = src_nfields(im);
 	size_t depth_off = (size_t)-1;
 	for (int t = 0; t < BC_TERM_COUNT; t++) {
 		int col = im->plan.term_col[t];
-		const char *v = col >= 0 && (size_t)col < nf ? bc_csv__field(im->csv, (size_t)col) : "";
+		const char *v = col >= 0 && (size_t)col < nf ? src_field(im, (size_t)col) : "";
 		im->cell_off[t] = put_cell(im, v, 1);
 		if (im->oom || !im->scratch.data)
 			return BC_ENOMEM;
@@ -211,7 +236,7 @@ static int gather_cells(importer *im)
 			im->cell_off[t] = put_cell(im, im->plan.defaults[t], 1);
 	}
 	if (im->plan.depth_col >= 0 && (size_t)im->plan.depth_col < nf)
-		depth_off = put_cell(im, bc_csv__field(im->csv, (size_t)im->plan.depth_col), 1);
+		depth_off = put_cell(im, src_field(im, (size_t)im->plan.depth_col), 1);
 	if (!im->scratch.data || im->oom)
 		return BC_ENOMEM;
 	for (int t = 0; t < BC_TERM_COUNT; t++)
@@ -225,7 +250,7 @@ static int gather_cells(importer *im)
 	for (size_t i = 0; i < im->nh && i < nf; i++) {
 		if (im->plan.col_term[i] >= 0)
 			continue;
-		const char *v = bc_csv__field(im->csv, i);
+		const char *v = src_field(im, i);
 		if (!*v)
 			continue;
 		if (is_guarded(v) && !im->o->keep_guard_quotes) {
@@ -242,7 +267,7 @@ static int gather_cells(importer *im)
 /* The row as read: header -> cell, cells beyond the header numbered. */
 static int raw_json(importer *im)
 {
-	size_t nf = bc_csv__nfields(im->csv);
+	size_t nf = src_nfields(im);
 	im->raw.len = 0;
 	if (bc__buf_puts(&im->raw, "{"))
 		return BC_ENOMEM;
@@ -252,7 +277,7 @@ static int raw_json(importer *im)
 		if (i >= im->nh)
 			snprintf(extra_name, sizeof extra_name, "(column %zu)", i + 1);
 		if ((i && bc__buf_puts(&im->raw, ",")) || bc__buf_json_string(&im->raw, h) || bc__buf_puts(&im->raw, ":") ||
-			bc__buf_json_string(&im->raw, bc_csv__field(im->csv, i)))
+			bc__buf_json_string(&im->raw, src_field(im, i)))
 			return BC_ENOMEM;
 	}
 	return bc__buf_puts(&im->raw, "}") ? BC_ENOMEM : BC_OK;
@@ -781,15 +806,20 @@ static int import_row(importer *im, bc_err *err)
 	im->reason.len = 0;
 	if (im->reason.data)
 		im->reason.data[0] = '\0';
-	im->line = bc_csv__line(im->csv);
-	size_t nf = bc_csv__nfields(im->csv);
+	im->line = src_line(im);
+	size_t nf = src_nfields(im);
 	int rc = gather_cells(im);
 	if (rc)
 		return bc_err_set(err, BC_ENOMEM, "out of memory");
+	if (im->dwca) {
+		const char *field = NULL, *why = bc_dwca__problem(im->dwca, &field);
+		if (why)
+			row_problem(im, field, "%s", why);
+	}
 	if (nf != im->nh) {
 		int extra_empty = nf > im->nh;
 		for (size_t i = im->nh; extra_empty && i < nf; i++)
-			if (bc_csv__field(im->csv, i)[0])
+			if (src_field(im, i)[0])
 				extra_empty = 0;
 		if (!extra_empty)
 			row_problem(im, "row", "%zu cells, but the header has %zu columns (a missing or extra %s, or a line break outside quotes?)",
@@ -844,17 +874,17 @@ static int refuse_duplicate(bc_db *db, const char *name, const char *sha, bc_err
 
 static int read_header(importer *im, bc_err *err)
 {
-	int rc = bc_csv__next(im->csv, err);
+	int rc = im->dwca ? 1 : bc_csv__next(im->csv, err);
 	if (rc == 0)
 		return bc_err_set(err, BC_EINVALID, "%s: empty file; expected a header row and data rows", im->name);
 	if (rc < 0)
 		return rc;
-	im->nh = bc_csv__nfields(im->csv);
+	im->nh = src_nfields(im);
 	im->headers = bc__calloc(im->nh, sizeof *im->headers);
 	if (!im->headers)
 		return bc_err_set(err, BC_ENOMEM, "out of memory");
 	for (size_t i = 0; i < im->nh; i++) {
-		const char *h = bc_csv__field(im->csv, i);
+		const char *h = im->dwca ? bc_dwca__column(im->dwca, i) : bc_csv__field(im->csv, i);
 		while (*h == ' ' || *h == '\t')
 			h++;
 		size_t n = strlen(h);
@@ -863,7 +893,7 @@ static int read_header(importer *im, bc_err *err)
 		if (!(im->headers[i] = bc__strndup(h, n)))
 			return bc_err_set(err, BC_ENOMEM, "out of memory");
 	}
-	rc = bc_colmap__bind(&im->plan, im->map, (const char *const *)im->headers, im->nh, im->name, bc_csv__line(im->csv), err);
+	rc = bc_colmap__bind(&im->plan, im->map, (const char *const *)im->headers, im->nh, im->name, im->dwca ? 1L : bc_csv__line(im->csv), err);
 	if (rc)
 		return rc;
 	im->plan_bound = 1;
@@ -872,7 +902,7 @@ static int read_header(importer *im, bc_err *err)
 		for (size_t i = 0; i < im->nh && i < 8; i++)
 			bc__buf_printf(&list, "%s'%s'", i ? ", " : "", im->headers[i]);
 		rc = bc_err_set(err, BC_EINVALID, "%s:%ld: header: no scientificName column among %s%s (wrong delimiter, or headers that need --map?)",
-			im->name, bc_csv__line(im->csv), list.data ? list.data : "", im->nh > 8 ? ", ..." : "");
+			im->name, im->dwca ? 1L : bc_csv__line(im->csv), list.data ? list.data : "", im->nh > 8 ? ", ..." : "");
 		bc__buf_free(&list);
 		return rc;
 	}
@@ -883,9 +913,14 @@ static int options_json(importer *im, const char *path, bc_buf *b)
 {
 	bc__buf_puts(b, "{\"path\":");
 	bc__buf_json_string(b, path);
-	bc__buf_puts(b, ",\"delimiter\":");
-	char d[2] = {bc_csv__delim(im->csv), 0};
-	bc__buf_json_string(b, d);
+	if (im->dwca) {
+		bc__buf_puts(b, ",\"archive\":");
+		bc__buf_puts(b, bc_dwca__layout_json(im->dwca));
+	} else {
+		bc__buf_puts(b, ",\"delimiter\":");
+		char d[2] = {bc_csv__delim(im->csv), 0};
+		bc__buf_json_string(b, d);
+	}
 	if (im->map) {
 		bc__buf_puts(b, ",\"map\":");
 		bc__buf_json_string(b, bc_colmap__name(im->map));
@@ -982,6 +1017,7 @@ static void indexes_free(saved_indexes *si)
 static void importer_free(importer *im)
 {
 	bc_csv__free(im->csv);
+	bc_dwca__free(im->dwca);
 	for (size_t i = 0; im->headers && i < im->nh; i++)
 		free(im->headers[i]);
 	free(im->headers);
@@ -1028,9 +1064,15 @@ int bc_import_file(bc_import_result *out, bc_db *db, const char *path, const bc_
 	sqlite3_stmt *st = NULL;
 	saved_indexes saved = {{0}, 0};
 
-	int rc = bc__sha256_file(path, sha, err);
-	if (rc)
+	int rc = BC_OK;
+	im.batch_name = im.name;
+	if (bc_dwca__detect(path)) {
+		if ((rc = bc_dwca__open(&im.dwca, path, im.name, NULL, err)))
+			goto done;
+		snprintf(sha, sizeof sha, "%s", bc_dwca__sha256(im.dwca));
+	} else if ((rc = bc__sha256_file(path, sha, err))) {
 		goto done;
+	}
 	/* vocabularies, map, chart */
 	if ((rc = bc_vocab__builtin(&im.env, BC_VOCAB_ENVIRONMENTS, err)) ||
 		(rc = bc_vocab__builtin(&im.pres, BC_VOCAB_PRESERVATION, err)) ||
@@ -1054,7 +1096,7 @@ int bc_import_file(bc_import_result *out, bc_db *db, const char *path, const bc_
 		goto done;
 	}
 	bc_csv_options co = {0};
-	if ((rc = bc_csv__open(&im.csv, path, im.name, &co, err)))
+	if (!im.dwca && (rc = bc_csv__open(&im.csv, path, im.name, &co, err)))
 		goto done;
 	if ((rc = read_header(&im, err)))
 		goto done;
@@ -1076,14 +1118,15 @@ int bc_import_file(bc_import_result *out, bc_db *db, const char *path, const bc_
 		goto done;
 	}
 	if ((rc = bc_db__prepare(db, &st,
-		     "INSERT INTO import_batches (kind, file, sha256, options, tool_version, timescale) "
-		     "VALUES ('occurrences', :file, :sha, :options, :version, :timescale)", err)))
+		     "INSERT INTO import_batches (kind, file, sha256, options, tool_version, timescale, metadata) "
+		     "VALUES ('occurrences', :file, :sha, :options, :version, :timescale, :metadata)", err)))
 		goto done;
 	bc_db__bind_text(st, ":file", im.name);
 	bc_db__bind_text(st, ":sha", sha);
 	bc_db__bind_text(st, ":options", options.data);
 	bc_db__bind_text(st, ":version", BC_VERSION);
 	bc_db__bind_text(st, ":timescale", out->timescale);
+	bc_db__bind_text(st, ":metadata", im.dwca ? bc_dwca__metadata(im.dwca) : "");
 	if (sqlite3_step(st) != SQLITE_DONE) {
 		rc = bc_db__error(db, err, "recording the import batch");
 		goto done;
@@ -1093,7 +1136,7 @@ int bc_import_file(bc_import_result *out, bc_db *db, const char *path, const bc_
 	st = NULL;
 	{
 		/* about 150 bytes per row in a typical sheet (common practice, no source) */
-		uint64_t expect = bc_csv__size(im.csv) / 150;
+		uint64_t expect = im.dwca ? 0 : bc_csv__size(im.csv) / 150;
 		double stored = 0;
 		sqlite3_stmt *cnt = NULL;
 		if ((rc = bc_db__prepare(db, &cnt, "SELECT coalesce(max(occurrence_pk), 0) FROM occurrences", err)))
@@ -1106,18 +1149,21 @@ int bc_import_file(bc_import_result *out, bc_db *db, const char *path, const bc_
 	}
 	if ((rc = prepare_all(&im, err)))
 		goto done;
-	while ((rc = bc_csv__next(im.csv, err)) == 1) {
+	while ((rc = src_next(&im, err)) == 1) {
 		out->n_read++;
+		if (im.dwca)
+			im.name = bc_dwca__where(im.dwca); /* messages name the data file inside the archive */
 		if ((rc = import_row(&im, err)))
 			goto done;
 		if (im.o->progress && out->n_read % PROGRESS_EVERY == 0)
-			im.o->progress(im.o->ctx, bc_csv__bytes(im.csv), bc_csv__size(im.csv));
+			im.o->progress(im.o->ctx, im.dwca ? 0 : bc_csv__bytes(im.csv), im.dwca ? 0 : bc_csv__size(im.csv));
 	}
+	im.name = im.batch_name;
 	if (rc < 0)
 		goto done;
 	rc = BC_OK;
 	if (im.o->progress)
-		im.o->progress(im.o->ctx, bc_csv__bytes(im.csv), bc_csv__size(im.csv));
+		im.o->progress(im.o->ctx, im.dwca ? 0 : bc_csv__bytes(im.csv), im.dwca ? 0 : bc_csv__size(im.csv));
 	if (out->n_read == 0) {
 		rc = bc_err_set(err, BC_EINVALID, "%s: only a header row, no data rows; nothing imported", im.name);
 		goto done;

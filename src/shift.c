@@ -46,25 +46,7 @@ static const char SQL_SELECT_REGION[] =
 static const char SQL_VOCABS[] =
 	"SELECT kind, name, sha256 FROM vocabularies ORDER BY kind, vocabulary_id";
 
-struct bc_shift {
-	bc_shift_options opts;      /* string fields point at the owned copies below */
-	char *group, *taxon, *preservation, *timescale, *bins_file;
-	char *db_path;
-	char *chart_name, *chart_source;
-	char *bins_file_sha;
-	char *vocabs;               /* "kind name sha256:...; ..." */
-	bc_shift__occ *occ;         /* the assignment, kept for redraws */
-	size_t nocc;
-	char **refkeys;
-	size_t nref;
-	size_t nloc;
-	bc_shift__bin *bins;        /* the reported span of bins, oldest first */
-	size_t nbins;
-	bc_shift_bin *out;
-	double *zone_counts;        /* nbins x (n_zones + 1) */
-	bc_shift_tests tests;
-	bc_shift_summary sum;
-};
+/* struct bc_shift is in shift.h (resample.c reads it too). */
 
 static int oom(bc_err *err) { return bc_err_set(err, BC_ENOMEM, "out of memory"); }
 
@@ -219,6 +201,9 @@ int bc_shift_option_set(bc_shift_options *o, const char *name, const char *value
 		o->level = l;
 		return BC_OK;
 	}
+	int rc = bc_resample__option_set(o, name, value, err);
+	if (rc != 1)
+		return rc;
 	return bc_err_set(err, BC_EUSAGE, "shift: unknown option --%s", name);
 }
 
@@ -267,6 +252,43 @@ static void add_to_bin(double *c, const bc_shift__occ *o, double w, size_t n_zon
 	}
 }
 
+size_t bc_shift__place(const bc_shift__bin *bins, size_t nbins, double top, double bot,
+		       size_t *k0_out, size_t *k1_out, double *total_out)
+{
+	size_t j = first_below(bins, nbins, top);
+	size_t k0 = nbins, k1 = nbins, best = nbins;
+	double total = 0, bestov = -1;
+	if (top == bot) {
+		best = bc_shift__point_bin(bins, nbins, top, j);
+		if (best < nbins) {
+			k0 = best;
+			k1 = best + 1;
+			total = 1;
+		}
+	} else {
+		k0 = j;
+		for (size_t k = j; k < nbins && bins[k].older > bot; k++) {
+			double ov = fmin(top, bins[k].older) - fmax(bot, bins[k].younger);
+			if (ov <= 0)
+				continue;
+			total += ov;
+			/* ties (within 1e-9 Myr, rounding of the bounds) keep the older bin */
+			if (ov > bestov + 1e-9) {
+				bestov = ov;
+				best = k;
+			}
+			k1 = k + 1;
+		}
+	}
+	if (k0_out)
+		*k0_out = k0;
+	if (k1_out)
+		*k1_out = k1;
+	if (total_out)
+		*total_out = total;
+	return best;
+}
+
 int bc_shift__count(double *counts, size_t *n_refs, size_t *n_locs, bc_shift__tally *tally,
 		    const bc_shift__occ *occ, size_t n, const bc_shift__bin *bins, size_t nbins,
 		    int rule, double max_myr, size_t n_zones, size_t ref_keys, size_t loc_keys, bc_err *err)
@@ -294,36 +316,9 @@ int bc_shift__count(double *counts, size_t *n_refs, size_t *n_locs, bc_shift__ta
 			tally->n_too_long++;
 			continue;
 		}
-		size_t j = first_below(bins, nbins, top);
-		size_t k0 = nbins, k1 = nbins, best = nbins;
-		double total = 0, bestov = -1;
-		if (top == bot) {
-			/* A point age: the bin whose older bound is inclusive; at
-			 * the very youngest edge, the bin ending there. */
-			if (j < nbins && bins[j].older >= top)
-				best = j;
-			else if (j > 0 && bins[j - 1].younger == top)
-				best = j - 1;
-			if (best < nbins) {
-				k0 = best;
-				k1 = best + 1;
-				total = bestov = 1;
-			}
-		} else {
-			k0 = j;
-			for (size_t k = j; k < nbins && bins[k].older > bot; k++) {
-				double ov = fmin(top, bins[k].older) - fmax(bot, bins[k].younger);
-				if (ov <= 0)
-					continue;
-				total += ov;
-				/* ties (within 1e-9 Myr, rounding of the bounds) keep the older bin */
-				if (ov > bestov + 1e-9) {
-					bestov = ov;
-					best = k;
-				}
-				k1 = k + 1;
-			}
-		}
+		size_t k0, k1;
+		double total;
+		size_t best = bc_shift__place(bins, nbins, top, bot, &k0, &k1, &total);
 		if (best == nbins) {
 			tally->n_outside++;
 			continue;
@@ -1043,6 +1038,7 @@ void bc_shift_free(bc_shift *s)
 	bc_shift__bins_free(s->bins, s->nbins);
 	free(s->out);
 	free(s->zone_counts);
+	bc_resample__free(s->rs);
 	free(s);
 }
 
@@ -1100,6 +1096,8 @@ int bc_shift_compute(bc_shift **out, bc_db *db, const bc_shift_options *opts, bc
 		return bc_err_set(err, BC_EUSAGE, "--bins: width must be positive");
 	if (opts->bins == BC_BINS_FILE && !opts->bins_file)
 		return bc_err_set(err, BC_EUSAGE, "--bins: no file given");
+	if ((rc = bc_resample__check(opts, err)) != BC_OK)
+		return rc;
 	bc_shift *s = bc__calloc(1, sizeof *s);
 	if (!s)
 		return oom(err);
@@ -1197,6 +1195,7 @@ int bc_shift_compute(bc_shift **out, bc_db *db, const bc_shift_options *opts, bc
 	}
 	bin_stats(s, counts, nrefs, nlocs, first);
 	across_stats(s);
+	rc = bc_resample__run(s, db, opts->chart, err);
 done:
 	bc__buf_free(&words);
 	bc_shift__bins_free(cand, ncand);
@@ -1330,6 +1329,7 @@ static void describe_options(const bc_shift_options *o, bc_buf *b)
 	put_arg(b, o->zones_given ? "zones" : "split", v);
 	snprintf(v, sizeof v, "%g", o->level);
 	put_arg(b, "level", v);
+	bc_resample__describe_options(o, b);
 }
 
 static int build_table(const bc_shift *s, bc_table **out, bc_err *err)
@@ -1360,6 +1360,9 @@ static int build_table(const bc_shift *s, bc_table **out, bc_err *err)
 		if (rc == BC_OK)
 			rc = bc_output__add_column(t, "n_zone_straddle", BC_COL_COUNT, 0, err);
 	}
+	size_t ncol_shift = bc_output__column_count(t);
+	if (rc == BC_OK)
+		rc = bc_resample__columns(s, t, err);
 	for (size_t i = 0; rc == BC_OK && i < s->nbins; i++) {
 		const bc_shift_bin *x = &s->out[i];
 		rc = bc_output__add_row(t, err);
@@ -1378,6 +1381,7 @@ static int build_table(const bc_shift *s, bc_table **out, bc_err *err)
 				bc_output__set_num(t, nfix + z, x->n_zone[z]);
 			bc_output__set_num(t, nfix + s->opts.n_zones + 1, x->n_zone_straddle);
 		}
+		bc_resample__row(s, t, i, ncol_shift);
 	}
 	/* Caption: selection, binning, zoning, chart. */
 	if (rc == BC_OK) {
@@ -1432,8 +1436,24 @@ static int build_table(const bc_shift *s, bc_table **out, bc_err *err)
 	if (rc == BC_OK)
 		rc = bc_output__meta_text(t, T, "breakpoint_note", err, "the boundary maximising the binomial likelihood of one deep share before and one after; "
 			"lr = 2 (logL two shares - logL one share); no p-value is given because the maximum over boundaries is not chi-square distributed");
-	/* The methods stamp. */
+	if (rc == BC_OK)
+		rc = bc_resample__tests(s, t, err);
+	if (rc == BC_OK)
+		rc = bc_shift__stamp(s, t, err);
+	if (rc) {
+		bc_output__table_free(t);
+		return rc;
+	}
+	*out = t;
+	return BC_OK;
+}
+
+/* The methods stamp (the shift table's, and the taphonomy table's). */
+int bc_shift__stamp(const bc_shift *s, bc_table *t, bc_err *err)
+{
 	bc_meta_section S = BC_META_STAMP;
+	bc_buf b = {0};
+	int rc = BC_OK;
 	const bc_shift_summary *u = &s->sum;
 	if (rc == BC_OK)
 		rc = bc_output__meta_text(t, S, "tool", err, "bathychron %s", BC_VERSION);
@@ -1493,13 +1513,10 @@ static int build_table(const bc_shift *s, bc_table **out, bc_err *err)
 			"fisher_p: two-sided Fisher exact test of the two bins' shallow/deep counts%s; NA when either bin has no shallow or deep occurrence",
 			s->opts.span == BC_SPAN_SPLIT ? " (fractional counts rounded to the nearest integer for this test only)" : "");
 	if (rc == BC_OK)
+		rc = bc_resample__stamp(s, t, err);
+	if (rc == BC_OK)
 		rc = bc_output__meta_text(t, S, "caution", err, "%s", CAUTION);
-	if (rc) {
-		bc_output__table_free(t);
-		return rc;
-	}
-	*out = t;
-	return BC_OK;
+	return rc;
 }
 
 int bc_shift_write(const bc_shift *s, FILE *f, bc_format format, bc_err *err)
@@ -1522,6 +1539,43 @@ static const char REFERENCES[] =
 	"Newcombe RG (1998a) Two-sided confidence intervals for the single proportion: comparison of seven methods. Statistics in Medicine 17(8):857-872.\n"
 	"Newcombe RG (1998b) Interval estimation for the difference between independent proportions: comparison of eleven methods. Statistics in Medicine 17(8):873-890.\n"
 	"Wilson EB (1927) Probable inference, the law of succession, and statistical inference. Journal of the American Statistical Association 22(158):209-212.\n";
+
+static int cmp_line(const void *a, const void *b) { return strcmp(*(char *const *)a, *(char *const *)b); }
+
+/* Sorts the newline-terminated lines of text[0..n) in place, so the
+ * references of resample.c fall into the alphabetical list. */
+static int sort_lines(char *text, size_t n)
+{
+	size_t count = 0;
+	for (size_t i = 0; i < n; i++)
+		count += text[i] == '\n';
+	char **line = bc__malloc((count ? count : 1) * sizeof *line);
+	char *copy = bc__malloc(n + 1);
+	if (!line || !copy) {
+		free(line);
+		free(copy);
+		return -1;
+	}
+	memcpy(copy, text, n);
+	copy[n] = '\0';
+	size_t k = 0;
+	for (char *p = copy; k < count && *p; k++) {
+		line[k] = p;
+		p = strchr(p, '\n');
+		*p++ = '\0';
+	}
+	qsort(line, k, sizeof *line, cmp_line);
+	size_t at = 0;
+	for (size_t i = 0; i < k; i++) {
+		size_t len = strlen(line[i]);
+		memcpy(text + at, line[i], len);
+		text[at + len] = '\n';
+		at += len + 1;
+	}
+	free(line);
+	free(copy);
+	return 0;
+}
 
 int bc_shift_write_methods(const bc_shift *s, FILE *f, bc_err *err)
 {
@@ -1589,9 +1643,14 @@ int bc_shift_write_methods(const bc_shift *s, FILE *f, bc_err *err)
 		bc__buf_printf(&b, "; most likely breakpoint between %s and %s (%g Ma, likelihood-ratio statistic %.2f)", t->break_before, t->break_after, t->break_ma, t->break_lr);
 	if (isfinite(t->trend_z))
 		bc__buf_puts(&b, ". ");
+	bc_resample__methods(s, &b);
 	bc__buf_puts(&b, CAUTION "\n\n");
+	size_t list_at = b.len + strlen("References\n\n");
 	bc__buf_puts(&b, REFERENCES);
+	bc_resample__references(s, &b);
 	int rc = BC_OK;
+	if (b.data && sort_lines(b.data + list_at, b.len - list_at))
+		rc = oom(err);
 	if (!b.data)
 		rc = oom(err);
 	else if (fwrite(b.data, 1, b.len, f) != b.len)

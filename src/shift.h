@@ -73,4 +73,63 @@ int bc_shift__count(double *counts, size_t *n_refs, size_t *n_locs, bc_shift__ta
 int bc_shift__bins_read(bc_shift__bin **out, size_t *n, const char *path, bc_err *err);
 void bc_shift__bins_free(bc_shift__bin *bins, size_t n);
 
+/**
+ * Where an age range [bot, top] (Ma, top >= bot) falls among `nbins` bins
+ * (oldest first, not overlapping): returns the majority bin (the one
+ * holding most of the range, ties to the older bin; for a point age the
+ * bin holding it, a bin holding its older bound), or `nbins` when the
+ * range lies outside every bin. `k0`/`k1` (may be NULL) receive the range
+ * [k0, k1) of bins to visit for overlaps, `total` the summed overlap (1 for
+ * a point age). bc_shift__count and the resampling draws both use it.
+ */
+size_t bc_shift__place(const bc_shift__bin *bins, size_t nbins, double top, double bot,
+		       size_t *k0, size_t *k1, double *total);
+
+/**
+ * The bin of a point age t: the bin whose older bound is inclusive (a bin
+ * holds its older bound, not its younger one); at the very youngest edge,
+ * the bin ending there; `nbins` when t lies in no bin. `j` is a starting
+ * index no greater than that of the first bin whose younger bound lies
+ * below t (0 always works; the search goes on linearly from it).
+ * bc_shift__place uses it for point ages, the resampling draws for every
+ * drawn age, so both follow one rule.
+ */
+static inline size_t bc_shift__point_bin(const bc_shift__bin *bins, size_t nbins, double t, size_t j)
+{
+	while (j < nbins && !(bins[j].younger < t))
+		j++;
+	if (j < nbins && bins[j].older >= t)
+		return j;
+	if (j > 0 && bins[j - 1].younger == t)
+		return j - 1;
+	return nbins;
+}
+
+struct bc_resample;
+
+/** The computed table. Private: resample.c reads the assignment and bins. */
+struct bc_shift {
+	bc_shift_options opts;      /* string fields point at the owned copies below */
+	char *group, *taxon, *preservation, *timescale, *bins_file;
+	char *db_path;
+	char *chart_name, *chart_source;
+	char *bins_file_sha;
+	char *vocabs;               /* "kind name sha256:...; ..." */
+	bc_shift__occ *occ;         /* the assignment, kept for redraws */
+	size_t nocc;
+	char **refkeys;
+	size_t nref;
+	size_t nloc;
+	bc_shift__bin *bins;        /* the reported span of bins, oldest first */
+	size_t nbins;
+	bc_shift_bin *out;
+	double *zone_counts;        /* nbins x (n_zones + 1) */
+	bc_shift_tests tests;
+	bc_shift_summary sum;
+	struct bc_resample *rs;     /* uncertainty and bias results (resample.c); NULL when none asked */
+};
+
+/* Hooks into resample.c (see resample.h), called by shift.c. */
+#include "resample.h"
+
 #endif

@@ -54,6 +54,13 @@ step "9. injuries: an invented survey of regenerating arms (two rows deliberatel
 run injuries import $db import/demo/injuries.csv
 must run encounter $db --by bin --format md -o demo-output/encounter.md --figure demo-output/encounter.png
 sed -n '1,6p' demo-output/encounter.md
+step "10. the same compilation as a Darwin Core Archive, into a second database"
+must run init demo-output/from-archive.gpkg
+must run refs demo-output/from-archive.gpkg import/demo/references.bib
+run import demo-output/from-archive.gpkg import/demo/archive
+echo "(the archive carries the same deliberately bad rows as the spreadsheet)"
+must run export $db --format dwca -o demo-output/demo-archive.zip
+
 echo
 echo "demo finished: every file is in demo-output/"
 ls demo-output

@@ -20,7 +20,14 @@ static const char help[] =
 	"many it removed.\n\n"
 	"Options:\n"
 	"  --format F  csv, or dwca (Darwin Core Archive)\n"
-	"  -o PATH     output file; '-' is standard output\n";
+	"  -o PATH     output file; '-' is standard output (csv only)\n\n"
+	"--format dwca writes a Darwin Core Archive: PATH ending in .zip gives a zip\n"
+	"file, any other PATH a new folder (an existing PATH is never overwritten).\n"
+	"It holds meta.xml, eml.xml, occurrence.txt with Darwin Core terms and the\n"
+	"project's own terms (namespace https://bathychron.invalid/terms/), and the\n"
+	"numeric ages as a ChronometricAge extension in Ma. No spreadsheet guard\n"
+	"quote is added inside an archive. 'bathychron import' reads it back to the\n"
+	"same occurrences (see doc/dwca.md).\n";
 
 int cmd_export(int argc, char **argv)
 {
@@ -46,9 +53,19 @@ int cmd_export(int argc, char **argv)
 	if (!dbpath || !format || !outpath)
 		return cli_usage("export", "expected DB --format csv|dwca -o PATH");
 	if (strcmp(format, "dwca") == 0) {
-		/* Hook for the Darwin Core Archive writer (its own module). */
-		cli_error("export: --format dwca is not available in this build yet");
-		return CLI_ENV;
+		bc_err derr = {0};
+		bc_db *ddb = NULL;
+		long long dn = 0;
+		if (strcmp(outpath, "-") == 0)
+			return cli_usage("export", "--format dwca needs -o PATH.zip or -o FOLDER, not standard output");
+		if (bc_db_open(&ddb, dbpath, &derr) != BC_OK)
+			return cli_fail(&derr);
+		int drc = bc_export_dwca(ddb, outpath, &dn, &derr);
+		bc_db_close(ddb);
+		if (drc != BC_OK)
+			return cli_fail(&derr);
+		fprintf(stderr, "%s: %lld occurrences written (Darwin Core Archive)\n", outpath, dn);
+		return CLI_OK;
 	}
 	if (strcmp(format, "csv") != 0)
 		return cli_usage("export", "--format must be csv or dwca, not '%s'", format);
