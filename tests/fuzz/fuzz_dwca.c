@@ -2,10 +2,8 @@
  * fuzz_dwca.c - libFuzzer target for the Darwin Core Archive reader:
  * arbitrary bytes as a zip file, opened and read to the end, must never
  * crash, hang or leak; a refusal is a normal outcome. Seeds: tests/fuzz/dwca/
- * (small valid and hostile archives). Build, e.g.:
- *   clang -g -O1 -fsanitize=fuzzer,address,undefined -Isrc tests/fuzz/fuzz_dwca.c \
- *     build-san/libbathychron.a $(pkg-config --libs ...) -lcsv -lm -lpthread -o build/fuzz_dwca
- *   build/fuzz_dwca -max_total_time=60 tests/fuzz/dwca
+ * (small valid and hostile archives). Built by make fuzz-build; make fuzz
+ * runs it (see tests/fuzz/README.md).
  */
 #include "dwca.h"
 
