@@ -244,3 +244,24 @@ same_text xml_billion_laughs_message "$T/err" "bathychron: $FIX/charts/billion-l
 expect_status 1 xml_external_entity_refused $BC timescale load "$DB" "$FIX/charts/external-entity.rdf"
 if grep -q 'root:' "$T/out" "$T/err"; then fail xml_external_entity_not_read "/etc/passwd content in output"; else ok xml_external_entity_not_read; fi
 dump_same xml_db_unchanged "$DB" "$T/before.sql"
+
+# ------------------------------------------------------------------
+# Darwin Core Archives: a zip bomb (16 MiB of zeros at 1029:1), a zip
+# whose entry escapes the folder, a meta.xml with an external entity.
+# Each refused as a whole before anything is written; nothing outside
+# the archive is read or written.
+# ------------------------------------------------------------------
+sqlite3 "$DB" .dump >"$T/before.sql"
+mkdir -p "$T/work/a/b"; cp "$BAD/dwca-zip-slip.zip" "$T/work/a/b/"
+expect_status 1 dwca_zip_bomb_refused $BC import "$DB" "$BAD/dwca-zip-bomb.zip"
+same_text dwca_zip_bomb_message "$T/err" "bathychron: $BAD/dwca-zip-bomb.zip/padding.bin: refused: declared compression ratio 1029:1 is over 1000:1 (possible zip bomb); nothing was imported"
+# The slip archive is imported from a folder two levels down, so that
+# '../../escaped.txt' would land in $T/work if it were ever written.
+(cd "$T/work/a/b" && $BC import "$DB" dwca-zip-slip.zip >"$T/out" 2>"$T/err"); s=$?
+[ $s -eq 1 ] && ok dwca_zip_slip_refused || fail dwca_zip_slip_refused "exit $s"
+same_text dwca_zip_slip_message "$T/err" "bathychron: dwca-zip-slip.zip: entry '../../escaped.txt': refused: '..' leaves the archive folder; nothing was imported"
+[ ! -e "$T/work/escaped.txt" ] && [ ! -e "$T/escaped.txt" ] && ok dwca_zip_slip_nothing_written || fail dwca_zip_slip_nothing_written "escaped.txt exists"
+expect_status 1 dwca_xxe_refused $BC import "$DB" "$BAD/dwca-xxe"
+same_text dwca_xxe_message "$T/err" "bathychron: $BAD/dwca-xxe/meta.xml:2: DOCTYPE: refused: a document type declaration ('archive') is not allowed here (no DTD is loaded and no entity is expanded); nothing was imported"
+if grep -q 'root:' "$T/out" "$T/err"; then fail dwca_xxe_not_read "/etc/passwd content in output"; else ok dwca_xxe_not_read; fi
+dump_same dwca_refusals_db_unchanged "$DB" "$T/before.sql"
