@@ -361,8 +361,24 @@ static int write_delimited(const bc_table *t, bc_buf *b, char sep)
 				break;
 			if (cell_text(tmp, sizeof tmp, &t->cols[c], x, 0))
 				rc = bc__buf_puts(b, "NA");
-			else if (t->cols[c].type == BC_COL_TEXT)
-				rc = sep == ',' ? put_csv_field(b, x->s) : put_flat(b, x->s, "\t\r\n");
+			else if (t->cols[c].type == BC_COL_TEXT) {
+				/* = + - @ tab CR first: a leading ' so a spreadsheet shows
+				 * text instead of running a formula (OWASP "CSV Injection"),
+				 * as export does; a bin name can come from a user's file. */
+				const char *s = x->s;
+				char *g = NULL;
+				if (s[0] && strchr("=+-@\t\r", s[0])) {
+					if (!(g = bc__malloc(strlen(s) + 2))) {
+						rc = BC_ENOMEM;
+						break;
+					}
+					g[0] = '\'';
+					strcpy(g + 1, s);
+					s = g;
+				}
+				rc = sep == ',' ? put_csv_field(b, s) : put_flat(b, s, "\t\r\n");
+				free(g);
+			}
 			else
 				rc = bc__buf_puts(b, tmp);
 		}
