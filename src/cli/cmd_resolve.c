@@ -37,8 +37,18 @@ static const char resolve_help[] =
 	"Exit status: 0 all resolved, 1 some were unknown, 2 usage, 3 environment.\n";
 
 /* Writes a TSV field: tabs and line breaks become spaces. */
+/* A cell starting with = + - @ tab or CR gets a leading ' so a
+ * spreadsheet shows it as text instead of running it (OWASP "CSV
+ * Injection"); the input column echoes whatever text was given. */
+static int formula_like(const char *s)
+{
+	return s[0] && strchr("=+-@\t\r", s[0]) != NULL;
+}
+
 static void put_tsv(const char *s)
 {
+	if (formula_like(s))
+		putchar('\'');
 	for (; *s; s++)
 		putchar(*s == '\t' || *s == '\n' || *s == '\r' ? ' ' : *s);
 }
@@ -47,10 +57,14 @@ static void put_tsv(const char *s)
 static void put_csv(const char *s)
 {
 	if (!strpbrk(s, ",\"\r\n")) {
+		if (formula_like(s))
+			putchar('\'');
 		fputs(s, stdout);
 		return;
 	}
 	putchar('"');
+	if (formula_like(s))
+		putchar('\'');
 	for (; *s; s++) {
 		if (*s == '"')
 			putchar('"');
