@@ -136,8 +136,13 @@ static int cmd_load(int argc, char **argv)
 /* One cell: CSV quoting (RFC 4180) or TSV with tabs and newlines as spaces. */
 static void cell(const char *s, bc_format f, int last)
 {
+	/* a name from a user's chart starting = + - @ tab CR gets a leading '
+	 * so a spreadsheet shows text, not a formula (OWASP "CSV Injection") */
+	int guard = s[0] && strchr("=+-@\t\r", s[0]) != NULL;
 	if (f == BC_FORMAT_CSV && strpbrk(s, ",\"\r\n")) {
 		putchar('"');
+		if (guard)
+			putchar('\'');
 		for (; *s; s++) {
 			if (*s == '"')
 				putchar('"');
@@ -145,6 +150,8 @@ static void cell(const char *s, bc_format f, int last)
 		}
 		putchar('"');
 	} else {
+		if (guard)
+			putchar('\'');
 		for (; *s; s++)
 			putchar(*s == '\t' || *s == '\n' || *s == '\r' ? ' ' : *s);
 	}
