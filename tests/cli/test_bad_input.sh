@@ -265,3 +265,25 @@ expect_status 1 dwca_xxe_refused $BC import "$DB" "$BAD/dwca-xxe"
 same_text dwca_xxe_message "$T/err" "bathychron: $BAD/dwca-xxe/meta.xml:2: DOCTYPE: refused: a document type declaration ('archive') is not allowed here (no DTD is loaded and no entity is expanded); nothing was imported"
 if grep -q 'root:' "$T/out" "$T/err"; then fail dwca_xxe_not_read "/etc/passwd content in output"; else ok dwca_xxe_not_read; fi
 dump_same dwca_refusals_db_unchanged "$DB" "$T/before.sql"
+
+# ------------------------------------------------------------------
+# Every CSV/TSV the tool writes guards text that a spreadsheet would run
+# (OWASP "CSV Injection"), not only export: resolve echoes its input, a
+# shift table names bins from a user's file.
+# ------------------------------------------------------------------
+expect_status 1 resolve_formula_inputs $BC resolve --format csv "=1+2" "@SUM(A1)" "+cmd|' /C calc'!A0" "-Campanian" "a,=b"
+same_text resolve_csv_guarded "$T/out" "input,status,from,to,older_ma,younger_ma,note,chart,uncertain
+'=1+2,unknown,,,,,not recognised; no chart name is close,ics-2024-12,0
+'@SUM(A1),unknown,,,,,not recognised; no chart name is close,ics-2024-12,0
+'+cmd|' /C calc'!A0,unknown,,,,,not recognised; no chart name is close,ics-2024-12,0
+'-Campanian,exact,Campanian,Campanian,83.6,72.2,,ics-2024-12,0
+\"a,=b\",unknown,,,,,\"not recognised; nearest names: Albian, Aptian\",ics-2024-12,0"
+expect_status 1 resolve_formula_tsv $BC resolve "=1+2"
+contains resolve_tsv_guarded "$T/out" "'=1+2	unknown"
+printf 'name\tolder_ma\tyounger_ma\n=HYPERLINK("http://example.invalid")\t90\t60\n' >"$T/bins.tsv"
+$BC init "$T/shift.gpkg" >/dev/null
+$BC import "$T/shift.gpkg" "$BAD/csv-formulas.csv" >/dev/null 2>&1
+expect_status 0 shift_formula_bin $BC shift "$T/shift.gpkg" --bins "$T/bins.tsv" --format csv
+contains shift_csv_bin_guarded "$T/out" "\"'=HYPERLINK(\"\"http://example.invalid\"\")\",90,60,3,"
+expect_status 0 shift_formula_bin_tsv $BC shift "$T/shift.gpkg" --bins "$T/bins.tsv" --format tsv
+contains shift_tsv_bin_guarded "$T/out" "'=HYPERLINK(\"http://example.invalid\")	90	60	3	"
