@@ -43,6 +43,13 @@ must run shift $db --group stalked --format csv -o demo-output/shift.csv
 must run shift $db --group stalked --methods > demo-output/methods.txt
 sed -n '1,12p' demo-output/shift.md
 
+step "6b. the same table under uncertainty: 1000 draws of age and depth with a bootstrap (seed 2026), reference weighting, and the taphonomic sensitivity table"
+must run shift $db --group stalked --bins epoch --draws 1000 --seed 2026 --bootstrap --weight-references --background binned --format md -o demo-output/shift-draws.md
+must run shift $db --group stalked --bins epoch --draws 1000 --seed 2026 --bootstrap --weight-references --background binned --format latex -o demo-output/shift-draws.tex
+must run shift $db --group stalked --bins epoch --taphonomy --table taphonomy --format md -o demo-output/taphonomy.md
+must run shift $db --group stalked --bins epoch --taphonomy --table taphonomy --format latex -o demo-output/taphonomy.tex
+sed -n '1,8p' demo-output/taphonomy.md
+
 step "7. the figure, in three formats"
 for f in svg pdf png; do
 	must run plot $db --group stalked -o demo-output/shift.$f
