@@ -18,7 +18,7 @@ PKGS := sqlite3 proj libxml-2.0 cairo libutf8proc libzip nettle
 # Debian package for each pkg-config name (same order), plus tools the tests use.
 DEB_DEV := libsqlite3-dev libproj-dev libxml2-dev libcairo2-dev libutf8proc-dev libzip-dev nettle-dev libcsv-dev
 DEB_TOOLS := pkg-config gcc make proj-data sqlite3 gdal-bin python3 python3-scipy python3-statsmodels \
-	python3-pandas python3-lxml poppler-utils librsvg2-bin geographiclib-tools proj-bin zip unzip fonts-dejavu-core clang libclang-rt-14-dev
+	python3-pandas python3-lxml poppler-utils librsvg2-bin geographiclib-tools proj-bin zip unzip fonts-dejavu-core clang libclang-rt-14-dev python3-gdal
 
 WARN := -Wall -Wextra -Wshadow -Wundef -Wwrite-strings -Wstrict-prototypes \
 	-Wmissing-prototypes -Wformat=2 -Wno-format-nonliteral
