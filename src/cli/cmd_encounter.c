@@ -12,7 +12,7 @@ static const char help[] =
 	"                           [--taxon NAME] [--model steady-state|poisson]\n"
 	"                           [--draws N] [--seed S] [--level L] [--shared-duration]\n"
 	"                           [--format csv|tsv|md|latex|json] [-o FILE]\n"
-	"                           [--figure FILE.svg|FILE.pdf|FILE.png [--width-mm W]]\n\n"
+	"                           [--figure FILE.svg|FILE.pdf|FILE.png [--width MM]]\n\n"
 	"From samples stored by 'bathychron injuries import', per group: the prevalence\n"
 	"of regeneration (Wilson interval); the injury incidence from the steady-state\n"
 	"relation P/(1-P) = I x D (Freeman & Hutchison 1980), or with --model poisson\n"
@@ -38,7 +38,8 @@ static const char help[] =
 	"  -o FILE              write to FILE instead of standard output\n"
 	"  --figure FILE        also draw the interval between encounters per row (log\n"
 	"                       scale, with intervals) as SVG, PDF or PNG by extension\n"
-	"  --width-mm W         figure width: 85 (one column, default) or 180 (two)\n\n"
+	"  --width MM           figure width in mm: 85 (one column, default) or 180 (two),\n"
+	"                       as for 'bathychron plot'\n\n"
 	"Cautions (also in the output's stamp): steady state assumed; regenerates\n"
 	"recognisable for the whole duration; every regenerate counted as a survived\n"
 	"predatory attack; animals damaged by collecting gear must be excluded before import.\n";
@@ -122,9 +123,9 @@ int cmd_encounter(int argc, char **argv)
 				return cli_usage("encounter", "--format: '%s' is not csv, tsv, md, latex or json", v);
 		} else if (strcmp(a, "--figure") == 0) {
 			figure = v;
-		} else if (strcmp(a, "--width-mm") == 0) {
+		} else if (strcmp(a, "--width") == 0) {
 			if (cli_parse_double(v, &width_mm) || width_mm < 40 || width_mm > 400)
-				return cli_usage("encounter", "--width-mm: '%s' is not a width between 40 and 400 mm", v);
+				return cli_usage("encounter", "--width: '%s' is not a width between 40 and 400 mm", v);
 		} else if (strcmp(a, "-o") == 0 || strcmp(a, "--output") == 0) {
 			out_path = v;
 		} else {

@@ -51,7 +51,7 @@ expect_status 0 encounter_figure_svg $BC encounter db.gpkg --by bin --draws 500 
 check encounter_figure_svg_is_svg grep -q '<svg' f.svg
 expect_status 0 encounter_figure_pdf $BC encounter db.gpkg --draws 500 --figure f.pdf
 check encounter_figure_pdf_is_pdf sh -c "head -c 5 f.pdf | grep -q '%PDF-'"
-expect_status 0 encounter_figure_png $BC encounter db.gpkg --draws 500 --figure f.png --width-mm 180
+expect_status 0 encounter_figure_png $BC encounter db.gpkg --draws 500 --figure f.png --width 180
 check encounter_figure_png_is_png sh -c "head -c 4 f.png | tail -c 3 | grep -q PNG"
 expect_status 2 encounter_figure_bad_extension $BC encounter db.gpkg --figure f.gif
 check encounter_figure_bad_extension_no_table sh -c "[ ! -s '$T/out' ]"
