@@ -1097,7 +1097,8 @@ void bc_plot_cleanup(void);
 /**
  * The default caption of a shift figure, in words: the selection, the
  * binning and span rule, the zoning, the chart, how many occurrences were
- * counted and why others were left out. `opts` are the options `s` was
+ * counted and why others were left out, and with draws what the band shows
+ * (quantiles, number of draws, seed, what was resampled). `opts` are the options `s` was
  * computed with; `chart_name` names the chart of the timescale bar (NULL:
  * none). `*out` is the caller's; free it with free().
  */
@@ -1106,8 +1107,9 @@ int bc_plot_shift_caption(char **out, const bc_shift *s, const bc_shift_options 
 
 /**
  * Draws a computed shift table: its bins one to one (has_frac when a bin
- * has shallow or deep occurrences; no resampling band yet), the interval
- * level of `opts`, and, when `opt->caption` is NULL, the caption of
+ * has shallow or deep occurrences; the resampling band from draw_lo,
+ * draw_mid, draw_hi when the table has draws and the bin a median), the
+ * interval level of `opts`, and, when `opt->caption` is NULL, the caption of
  * bc_plot_shift_caption(). Otherwise as bc_plot_shift(). Nothing is kept
  * from the arguments.
  */
