@@ -13,7 +13,6 @@
 #include "shift.h"
 
 #include <math.h>
-#include <nettle/sha2.h>
 #include <stdlib.h>
 #include <string.h>
 #include <strings.h>
@@ -24,25 +23,6 @@
 #define FIGURE_CAUTION "Palaeodepths are interpretations of the sources; a range ends at the last find, and a shallow range that ends " \
 	"early on one or two occurrences is weak evidence of a retreat."
 #define EPS 1e-9
-
-/* Selection as in shift.c (doc/shift.md), plus the name at the chosen rank. */
-static const char SQL_SELECT[] =
-	"SELECT o.occurrence_pk, o.older_ma, o.younger_ma, o.min_depth_m, o.max_depth_m,"
-	" o.reference_key, o.locality_id, o.articulation, l.longitude, l.latitude,"
-	" CASE :rank WHEN 'family' THEN o.family WHEN 'order' THEN o.\"order\""
-	"  WHEN 'species' THEN o.scientific_name"
-	"  ELSE CASE WHEN trim(o.genus) <> '' THEN o.genus"
-	"   WHEN instr(trim(o.scientific_name), ' ') > 0 THEN substr(trim(o.scientific_name), 1, instr(trim(o.scientific_name), ' ') - 1)"
-	"   ELSE o.scientific_name END END"
-	" FROM occurrences o LEFT JOIN localities l ON l.fid = o.locality_id"
-	" WHERE (:grp IS NULL OR o.taxon_group = :grp COLLATE NOCASE)"
-	" AND (:taxon IS NULL OR o.scientific_name = :taxon COLLATE NOCASE OR o.genus = :taxon COLLATE NOCASE"
-	"  OR o.family = :taxon COLLATE NOCASE OR o.\"order\" = :taxon COLLATE NOCASE"
-	"  OR o.scientific_name LIKE :taxon_prefix ESCAPE '\\')"
-	" AND (:artic IS NULL OR o.articulation = :artic COLLATE NOCASE)"
-	" AND (:pres IS NULL OR o.preservation = :pres COLLATE NOCASE)"
-	" ORDER BY o.occurrence_pk";
-static const char SQL_VOCABS[] = "SELECT kind, name, sha256 FROM vocabularies ORDER BY kind, vocabulary_id";
 
 static const char *const rank_names[] = {"genus", "family", "order", "species"};
 
@@ -60,7 +40,7 @@ struct bc_ranges {
 	bc_chart *chart_owned;
 	const bc_chart *chart;
 	rocc *occ;
-	size_t nocc;
+	size_t nocc, capocc;
 	bc_range_taxon *taxa;
 	size_t ntaxa;
 	bc_range_zone *zones;       /* ntaxa x (n_zones + 1) with --zones */
@@ -119,195 +99,62 @@ unsigned bc_ranges__relation(double s_young, double s_old, double f_young, doubl
 /* Loading                                                              */
 /* ------------------------------------------------------------------ */
 
-static int art_class_name(const char *s, const char **out)
+/* One selected row: the name at the rank first, then the palaeodepth. */
+static int load_row(void *ctx, const bc_shift__row *row, bc_err *err)
 {
-	static const char *const cls[] = {"articulated", "partly articulated", "disarticulated", "unknown"};
-	*out = NULL;
-	if (!s)
-		return 0;
-	for (int i = 0; i < 4; i++)
-		if (strcasecmp(s, cls[i]) == 0)
-			*out = cls[i];
-	if (strcasecmp(s, "partly-articulated") == 0 || strcasecmp(s, "partly_articulated") == 0)
-		*out = cls[1];
-	return *out != NULL;
-}
-
-static int in_region(const double r[4], double lon, double lat)
-{
-	if (lat < r[1] || lat > r[3])
-		return 0;
-	if (r[0] <= r[2])
-		return lon >= r[0] && lon <= r[2];
-	return lon >= r[0] || lon <= r[2];
-}
-
-static void put_le64(struct sha256_ctx *h, uint64_t v)
-{
-	uint8_t b[8];
-	for (int i = 0; i < 8; i++)
-		b[i] = (uint8_t)(v >> (8 * i));
-	sha256_update(h, 8, b);
-}
-
-static void put_str(struct sha256_ctx *h, const char *s)
-{
-	size_t n = strlen(s);
-	uint8_t b[4] = {(uint8_t)n, (uint8_t)(n >> 8), (uint8_t)(n >> 16), (uint8_t)(n >> 24)};
-	sha256_update(h, 4, b);
-	sha256_update(h, n, (const uint8_t *)s);
+	bc_ranges *r = ctx;
+	const bc_shift_options *o = &r->opts.sel;
+	const char *name = row->name;
+	size_t nl = strlen(name);
+	while (nl && name[nl - 1] == ' ')
+		nl--;
+	while (nl && *name == ' ') {
+		name++;
+		nl--;
+	}
+	if (!nl) {
+		r->sum.n_no_name++;
+		return BC_OK;
+	}
+	if (isnan(row->dmin) && isnan(row->dmax)) {
+		r->sum.n_no_depth++;
+		return BC_OK;
+	}
+	if (r->nocc == r->capocc) {
+		size_t nc = r->capocc ? 2 * r->capocc : 1024;
+		rocc *p = bc__realloc(r->occ, nc * sizeof *p);
+		if (!p)
+			return oom(err);
+		r->occ = p;
+		r->capocc = nc;
+	}
+	rocc *x = &r->occ[r->nocc];
+	memset(x, 0, sizeof *x);
+	if (!(x->name = bc__strndup(name, nl)) || !(x->ref = bc__strdup(row->ref))) {
+		free(x->name);
+		return oom(err);
+	}
+	r->nocc++;
+	x->pk = row->pk;
+	x->loc = row->loc;
+	x->older = row->older;
+	x->younger = row->younger;
+	x->mid = (row->older + row->younger) / 2;
+	double dmin = isnan(row->dmin) ? row->dmax : row->dmin, dmax = isnan(row->dmax) ? row->dmin : row->dmax;
+	x->z2 = bc_shift__zone(dmin, dmax, o->zones, 1);
+	x->zk = bc_shift__zone(dmin, dmax, o->zones, o->n_zones);
+	return BC_OK;
 }
 
 static int load(bc_ranges *r, bc_db *db, bc_err *err)
 {
-	sqlite3_stmt *st = NULL;
-	char *prefix = NULL;
-	size_t cap = 0;
-	struct sha256_ctx hash;
-	const bc_shift_options *o = &r->opts.sel;
-	int rc = bc_db__prepare(db, &st, SQL_SELECT, err);
-	if (rc)
-		return rc;
-	const char *artic = NULL;
-	art_class_name(o->preservation, &artic);
-	if (o->taxon) {
-		bc_buf b = {0};
-		int bad = 0;
-		for (const char *p = o->taxon; *p && !bad; p++) {
-			if (*p == '%' || *p == '_' || *p == '\\')
-				bad |= bc__buf_puts(&b, "\\");
-			bad |= bc__buf_append(&b, p, 1);
-		}
-		bad |= bc__buf_puts(&b, " %");
-		if (bad) {
-			bc__buf_free(&b);
-			rc = oom(err);
-			goto done;
-		}
-		prefix = b.data;
-	}
-	bc_db__bind_text(st, ":rank", rank_names[r->opts.rank]);
-	bc_db__bind_text(st, ":grp", o->group);
-	bc_db__bind_text(st, ":taxon", o->taxon);
-	bc_db__bind_text(st, ":taxon_prefix", prefix);
-	bc_db__bind_text(st, ":artic", artic);
-	bc_db__bind_text(st, ":pres", artic ? NULL : o->preservation);
-	sha256_init(&hash);
-	int step;
-	while ((step = sqlite3_step(st)) == SQLITE_ROW) {
-		r->sum.n_selected++;
-		if (o->has_region) {
-			if (sqlite3_column_type(st, 8) == SQLITE_NULL || sqlite3_column_type(st, 9) == SQLITE_NULL) {
-				r->sum.n_no_coordinates++;
-				continue;
-			}
-			if (!in_region(o->region, sqlite3_column_double(st, 8), sqlite3_column_double(st, 9))) {
-				r->sum.n_outside_region++;
-				continue;
-			}
-		}
-		int64_t pk = sqlite3_column_int64(st, 0);
-		double v[4];
-		uint64_t bits[4];
-		int isnull[4];
-		for (int c = 0; c < 4; c++) {
-			isnull[c] = sqlite3_column_type(st, c + 1) == SQLITE_NULL;
-			v[c] = isnull[c] ? NAN : sqlite3_column_double(st, c + 1);
-			bits[c] = 0x7ff8000000000000ULL;
-			if (!isnull[c])
-				memcpy(&bits[c], &v[c], sizeof bits[c]);
-		}
-		const char *ref = (const char *)sqlite3_column_text(st, 5);
-		int64_t loc = sqlite3_column_type(st, 6) == SQLITE_NULL ? -1 : sqlite3_column_int64(st, 6);
-		const char *art = (const char *)sqlite3_column_text(st, 7);
-		const char *name = (const char *)sqlite3_column_text(st, 10);
-		ref = ref ? ref : "";
-		art = art ? art : "";
-		name = name ? name : "";
-		put_le64(&hash, (uint64_t)pk);
-		for (int c = 0; c < 4; c++)
-			put_le64(&hash, bits[c]);
-		put_le64(&hash, (uint64_t)loc);
-		put_str(&hash, art);
-		put_str(&hash, ref);
-		put_str(&hash, name);
-		size_t nl = strlen(name);
-		while (nl && name[nl - 1] == ' ')
-			nl--;
-		while (nl && *name == ' ') {
-			name++;
-			nl--;
-		}
-		if (!nl) {
-			r->sum.n_no_name++;
-			continue;
-		}
-		if (isnull[2] && isnull[3]) {
-			r->sum.n_no_depth++;
-			continue;
-		}
-		if (r->nocc == cap) {
-			size_t nc = cap ? 2 * cap : 1024;
-			rocc *p = bc__realloc(r->occ, nc * sizeof *p);
-			if (!p) {
-				rc = oom(err);
-				goto done;
-			}
-			r->occ = p;
-			cap = nc;
-		}
-		rocc *x = &r->occ[r->nocc];
-		memset(x, 0, sizeof *x);
-		if (!(x->name = bc__strndup(name, nl)) || !(x->ref = bc__strdup(ref))) {
-			free(x->name);
-			rc = oom(err);
-			goto done;
-		}
-		r->nocc++;
-		x->pk = pk;
-		x->loc = loc;
-		x->older = v[0];
-		x->younger = v[1];
-		x->mid = (v[0] + v[1]) / 2;
-		double dmin = isnull[2] ? v[3] : v[2], dmax = isnull[3] ? v[2] : v[3];
-		x->z2 = bc_shift__zone(dmin, dmax, o->zones, 1);
-		x->zk = bc_shift__zone(dmin, dmax, o->zones, o->n_zones);
-	}
-	if (step != SQLITE_DONE) {
-		rc = bc_db__error(db, err, "reading occurrences");
-		goto done;
-	}
-	uint8_t d[SHA256_DIGEST_SIZE];
-	sha256_digest(&hash, sizeof d, d);
-	for (int i = 0; i < SHA256_DIGEST_SIZE; i++)
-		snprintf(r->sum.data_sha256 + 2 * i, 3, "%02x", d[i]);
-done:
-	sqlite3_finalize(st);
-	free(prefix);
+	bc_shift__selected sel;
+	int rc = bc_shift__select(db, &r->opts.sel, rank_names[r->opts.rank], load_row, r, &sel, err);
+	r->sum.n_selected = sel.n_selected;
+	r->sum.n_no_coordinates = sel.n_no_coordinates;
+	r->sum.n_outside_region = sel.n_outside_region;
+	memcpy(r->sum.data_sha256, sel.data_sha256, sizeof r->sum.data_sha256);
 	return rc;
-}
-
-static int read_vocabs(bc_ranges *r, bc_db *db, bc_err *err)
-{
-	sqlite3_stmt *st = NULL;
-	bc_buf b = {0};
-	int rc = bc_db__prepare(db, &st, SQL_VOCABS, err), step = SQLITE_DONE;
-	if (rc)
-		return rc;
-	while (rc == BC_OK && (step = sqlite3_step(st)) == SQLITE_ROW)
-		rc = bc__buf_printf(&b, "%s%s %s sha256:%s", b.len ? "; " : "", (const char *)sqlite3_column_text(st, 0),
-			(const char *)sqlite3_column_text(st, 1), (const char *)sqlite3_column_text(st, 2)) ? oom(err) : BC_OK;
-	if (rc == BC_OK && step != SQLITE_DONE)
-		rc = bc_db__error(db, err, "reading the vocabularies");
-	sqlite3_finalize(st);
-	if (rc == BC_OK && !b.len && bc__buf_puts(&b, "none recorded in the database"))
-		rc = oom(err);
-	if (rc) {
-		bc__buf_free(&b);
-		return rc;
-	}
-	r->vocabs = b.data;
-	return BC_OK;
 }
 
 /* ------------------------------------------------------------------ */
@@ -580,31 +427,9 @@ void bc_ranges_free(bc_ranges *r)
 	free(r);
 }
 
-static int dup_opt(char **dst, const char **field)
-{
-	if (!*field)
-		return 0;
-	if (!(*dst = bc__strdup(*field)))
-		return -1;
-	*field = *dst;
-	return 0;
-}
-
-static void excluded_words(const bc_ranges_summary *u, bc_buf *b)
-{
-	const struct { size_t n; const char *why; } ex[] = {
-		{u->n_no_coordinates, "no coordinates (--region)"}, {u->n_outside_region, "outside the region"},
-		{u->n_no_name, "no name at the rank"}, {u->n_no_depth, "no palaeodepth"},
-	};
-	for (size_t i = 0; i < sizeof ex / sizeof ex[0]; i++)
-		if (ex[i].n)
-			bc__buf_printf(b, "%s%zu %s", b->len ? ", " : "", ex[i].n, ex[i].why);
-}
-
 int bc_ranges_compute(bc_ranges **out, bc_db *db, const bc_ranges_options *opts, bc_err *err)
 {
 	*out = NULL;
-	bc_buf words = {0};
 	int rc = BC_OK;
 	const bc_shift_options *o = &opts->sel;
 	if (!o->n_zones || o->n_zones > BC_SHIFT_MAX_ZONES)
@@ -618,8 +443,8 @@ int bc_ranges_compute(bc_ranges **out, bc_db *db, const bc_ranges_options *opts,
 		return oom(err);
 	r->opts = *opts;
 	bc_shift_options *so = &r->opts.sel;
-	if (dup_opt(&r->group, &so->group) || dup_opt(&r->taxon, &so->taxon) || dup_opt(&r->preservation, &so->preservation) ||
-	    dup_opt(&r->timescale, &so->timescale) || !(r->db_path = bc__strdup(bc_db_path(db)))) {
+	if (bc_shift__dup_opt(&r->group, &so->group) || bc_shift__dup_opt(&r->taxon, &so->taxon) ||
+	    bc_shift__dup_opt(&r->preservation, &so->preservation) || bc_shift__dup_opt(&r->timescale, &so->timescale) || !(r->db_path = bc__strdup(bc_db_path(db)))) {
 		rc = oom(err);
 		goto done;
 	}
@@ -634,24 +459,16 @@ int bc_ranges_compute(bc_ranges **out, bc_db *db, const bc_ranges_options *opts,
 		rc = oom(err);
 		goto done;
 	}
-	if ((rc = read_vocabs(r, db, err)) || (rc = load(r, db, err)))
+	if ((rc = bc_shift__vocabs(&r->vocabs, db, err)) || (rc = load(r, db, err)))
 		goto done;
-	bc_plot__selection_words(&words, so);
-	if (r->sum.n_selected == 0) {
-		rc = bc_err_set(err, BC_EINVALID, "%s: no occurrences match the selection (%s)", r->db_path, words.data ? words.data : "");
-		goto done;
-	}
-	if (r->nocc == 0) {
-		bc_buf ex = {0};
-		excluded_words(&r->sum, &ex);
-		rc = bc_err_set(err, BC_EINVALID, "%s: %zu occurrences match the selection (%s), but none is left to compare: %s",
-			r->db_path, r->sum.n_selected, words.data ? words.data : "", ex.data ? ex.data : "");
-		bc__buf_free(&ex);
-		goto done;
-	}
-	rc = per_taxon(r, err);
+	const bc_shift__excluded ex[] = {
+		{r->sum.n_no_coordinates, "no coordinates (--region)"}, {r->sum.n_outside_region, "outside the region"},
+		{r->sum.n_no_name, "no name at the rank"}, {r->sum.n_no_depth, "no palaeodepth"},
+	};
+	rc = bc_shift__nothing_left(err, r->db_path, so, r->sum.n_selected, r->nocc, ex, sizeof ex / sizeof ex[0], "compare");
+	if (rc == BC_OK)
+		rc = per_taxon(r, err);
 done:
-	bc__buf_free(&words);
 	if (rc) {
 		bc_ranges_free(r);
 		return rc;
@@ -805,14 +622,7 @@ static int build_table(const bc_ranges *r, bc_table **out, bc_err *err)
 	for (size_t i = 0; rc == BC_OK && i < sizeof counts / sizeof counts[0]; i++)
 		rc = bc_output__meta_num(t, T, counts[i].key, (double)counts[i].v, 0, err);
 	if (rc == BC_OK)
-		rc = bc_output__meta_text(t, S, "tool", err, "bathychron %s", BC_VERSION);
-	if (rc == BC_OK)
-		rc = bc_output__meta_text(t, S, "database", err, "%s", r->db_path);
-	if (rc == BC_OK)
-		rc = bc_output__meta_text(t, S, "chart", err, "%s%s%s%s", r->chart_name, *r->chart_source ? " (" : "", r->chart_source,
-			*r->chart_source ? ")" : "");
-	if (rc == BC_OK)
-		rc = bc_output__meta_text(t, S, "vocabularies", err, "%s", r->vocabs);
+		rc = bc_shift__stamp_source(t, r->db_path, r->chart_name, r->chart_source, r->vocabs, err);
 	describe_options(r, &b);
 	if (rc == BC_OK)
 		rc = bc_output__meta_text(t, S, "options", err, "%s", b.data ? b.data + 1 : "");
@@ -831,8 +641,7 @@ static int build_table(const bc_ranges *r, bc_table **out, bc_err *err)
 			o->zones_given ? "; zoneK columns use every boundary, shallow_/deep_ columns and the relation the first" : "");
 	bc__buf_free(&b);
 	if (rc == BC_OK)
-		rc = bc_output__meta_text(t, S, "zone_rule", err, "at a boundary S a depth range [min, max] is shallow when max <= S and min < S, deep when min >= S, "
-			"otherwise straddling (in no zone); a single depth d is [d, d]; one missing end is taken as equal to the other");
+		rc = bc_shift__stamp_zone_rule(t, "in no zone", err);
 	if (rc == BC_OK)
 		rc = bc_output__meta_text(t, S, "range_ends", err, "first_older_ma/first_younger_ma: the largest older and younger bounds in the zone, so the first occurrence "
 			"lies between them; last_older_ma/last_younger_ma: the smallest, so the last occurrence lies between them; intervals: the finest chart interval "
@@ -850,15 +659,7 @@ static int build_table(const bc_ranges *r, bc_table **out, bc_err *err)
 			"of the shallow zone is still no younger than the deep zone's last_older_ma; no when it ends first but the limit reaches the deep range's end, "
 			"or there is one shallow horizon only; NA otherwise");
 	if (rc == BC_OK)
-		rc = bc_output__meta_num(t, S, "level", o->level, 0, err);
-	if (rc == BC_OK)
-		rc = bc_output__meta_text(t, S, "data_sha256", err, "%s", u->data_sha256);
-	if (rc == BC_OK)
-		rc = bc_output__meta_num(t, S, "selected", (double)u->n_selected, 0, err);
-	if (rc == BC_OK && o->has_region)
-		rc = bc_output__meta_num(t, S, "excluded_no_coordinates", (double)u->n_no_coordinates, 0, err);
-	if (rc == BC_OK && o->has_region)
-		rc = bc_output__meta_num(t, S, "excluded_outside_region", (double)u->n_outside_region, 0, err);
+		rc = bc_shift__stamp_data(t, o, u->data_sha256, u->n_selected, u->n_no_coordinates, u->n_outside_region, err);
 	if (rc == BC_OK)
 		rc = bc_output__meta_num(t, S, "excluded_no_name_at_rank", (double)u->n_no_name, 0, err);
 	if (rc == BC_OK)
