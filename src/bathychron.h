@@ -732,8 +732,10 @@ typedef enum bc_ranges_rank {
 
 /**
  * Options of bc_ranges_compute. `sel` carries the selection, --timescale
- * (chart interval names), the zoning and the confidence level exactly as
- * for shift; its binning fields are not used. Strings are borrowed.
+ * (chart interval names), the zoning, the confidence level and the
+ * resampling draws (draws, seed, threads, resample) exactly as for shift;
+ * its binning fields are not used, and its bootstrap and bias options are
+ * refused (BC_EUSAGE). Strings are borrowed.
  */
 typedef struct bc_ranges_options {
 	bc_shift_options sel;
@@ -762,9 +764,17 @@ typedef struct bc_range_zone {
 	double last_older_ma, last_younger_ma;
 	const char *last_interval;
 	double ci_extension;         /* Marshall (1990) r = (1 - C)^(-1/(H-1)) - 1, C = level; NaN when H < 2 */
-	double first_ci_ma;          /* oldest midpoint + r * (observed range of midpoints) */
+	double first_ci_ma;          /* oldest midpoint + r * (observed range of midpoints), not beyond the
+				      * older bound of the chart's eon holding the oldest midpoint */
 	double last_ci_ma;           /* youngest midpoint - r * range, not below 0 */
+	unsigned ci_capped;          /* BC_RANGE_CAPPED_* bits: the limit was held at that bound */
 } bc_range_zone;
+
+/** Which confidence limit of a zone was held at its bound (bc_range_zone.ci_capped). */
+enum {
+	BC_RANGE_CAPPED_FIRST = 1,   /* first_ci_ma held at the base of the eon (or of the chart) */
+	BC_RANGE_CAPPED_LAST = 2     /* last_ci_ma held at 0 Ma */
+};
 
 /** How the shallow range's end stands to the deep range (bit set of the possible ones). */
 enum {
@@ -785,6 +795,10 @@ typedef struct bc_range_taxon {
 				      * limit is still older than the deep range's last occurrence; 0: it ends
 				      * first but the limit reaches the deep end (or one horizon only);
 				      * -1: does not apply */
+	/* Resampling draws (sel.draws > 0; doc/ranges.md): NaN otherwise. */
+	int has_draws;
+	double draws_both;           /* share of draws in which the taxon had shallow and deep occurrences */
+	double p_ends_before, p_overlaps, p_outlasts; /* how often each relation occurred in those draws; NaN when none */
 } bc_range_taxon;
 
 typedef struct bc_ranges_summary {
@@ -798,6 +812,9 @@ typedef struct bc_ranges_summary {
 	size_t n_ends_before, n_overlaps, n_outlasts, n_unresolved; /* taxa with one certain relation, or several possible */
 	size_t n_retreat_supported, n_retreat_weak;
 	char data_sha256[65];        /* doc/ranges.md gives the byte layout */
+	size_t n_draws;              /* resampling draws made (0: none) */
+	size_t n_age_drawn;          /* occurrences whose age was drawn in each draw */
+	size_t n_depth_drawn;        /* straddling occurrences given a drawn depth in each draw */
 } bc_ranges_summary;
 
 typedef struct bc_ranges bc_ranges;
@@ -819,6 +836,9 @@ const bc_ranges_summary *bc_ranges_summary_get(const bc_ranges *r);
 
 /** Writes the table with its summary and methods stamp in `format`. */
 int bc_ranges_write(const bc_ranges *r, FILE *f, bc_format format, bc_err *err);
+
+/** Writes a methods paragraph (plain text) describing exactly what was done, with references. BC_EIO when the stream fails. */
+int bc_ranges_write_methods(const bc_ranges *r, FILE *f, bc_err *err);
 
 /**
  * Draws one row per taxon: its shallow and deep ranges over the timescale
