@@ -460,9 +460,11 @@ int bc_export_dwca(bc_db *db, const char *path, long long *n_rows, bc_err *err);
  */
 typedef struct bc_coverage_options {
 	double cell_km;   /* edge of the equal-area grid cells, km (> 0) */
+	size_t mst_max_points; /* > 0: with more distinct points than this the tree (O(n^2)) is
+				* not computed and mst_km is NaN; 0: no limit */
 } bc_coverage_options;
-/** Cells of 100 km on EPSG:6933 (WGS 84 / NSIDC EASE-Grid 2.0 Global). */
-#define BC_COVERAGE_OPTIONS_INIT {100.0}
+/** Cells of 100 km on EPSG:6933 (WGS 84 / NSIDC EASE-Grid 2.0 Global); no limit on the tree. */
+#define BC_COVERAGE_OPTIONS_INIT {100.0, 0}
 
 typedef struct bc_coverage {
 	size_t n_localities;       /* distinct localities with coordinates */
@@ -472,7 +474,8 @@ typedef struct bc_coverage {
 	double cell_km;            /* the cell edge used */
 	double min_lat, max_lat;   /* WGS 84 degrees; NaN when n_localities is 0 */
 	double lat_range;          /* max_lat - min_lat, degrees; 0 for one locality, NaN for none */
-	double mst_km;             /* summed geodesic length (WGS 84) of the minimum spanning tree, km */
+	double mst_km;             /* summed geodesic length (WGS 84) of the minimum spanning tree, km;
+				      NaN when opts->mst_max_points was exceeded */
 } bc_coverage;
 
 /**
@@ -580,13 +583,18 @@ typedef struct bc_shift_options {
 	int background_with_focal;  /* 1: the background includes the focal selection */
 	size_t quota;               /* > 0: subsample each bin to this many shallow + deep occurrences */
 	int taphonomy;              /* 1: articulated-only sensitivity and the transport flag */
+	/* spatial coverage per bin (doc/shift.md, "Spatial coverage") */
+	double cell_km;             /* edge of the equal-area cells counted in n_cells, km (default 100) */
 } bc_shift_options;
 
 /** Defaults: no selection, default chart, stage bins, majority rule, split at 200 m, 95 %,
  * no resampling (seed 1, both age and depth resampled once draws are asked for). */
 #define BC_SHIFT_OPTIONS_INIT { NULL, NULL, NULL, 0, {0, 0, 0, 0}, NULL, NULL, BC_BINS_STAGE, 0.0, NULL, \
 	BC_SPAN_MAJORITY, 0.0, 1, {200.0}, 0, 0.95, 0, 1, 0, BC_RESAMPLE_AGE | BC_RESAMPLE_DEPTH, 0, 0, \
-	BC_BACKGROUND_NONE, 0, 0, 0 }
+	BC_BACKGROUND_NONE, 0, 0, 0, 100.0 }
+
+/** Bins with more distinct located points than this get mst_km NaN (the tree is O(n^2); doc/shift.md). */
+#define BC_SHIFT_MST_MAX_POINTS 3000
 
 /** Replicates used by --weight-references and --quota when `draws` is 0. */
 #define BC_SHIFT_DEFAULT_REPLICATES 1000
@@ -594,7 +602,7 @@ typedef struct bc_shift_options {
 /**
  * Sets one option by its command-line name without the dashes ("group",
  * "taxon", "preservation", "region", "timescale", "bins", "span", "split",
- * "zones", "level"; and "draws", "seed", "threads", "resample", "background",
+ * "zones", "level", "cell-km"; and "draws", "seed", "threads", "resample", "background",
  * "quota", with the flags "bootstrap", "weight-references",
  * "background-with-focal", "taphonomy" taking "yes" or "no"). `value` is
  * borrowed where the field is a string.
@@ -634,6 +642,11 @@ typedef struct bc_shift_bin {
 	double quota_lo, quota_mid, quota_hi; /* NaN when the bin has fewer than quota */
 	/* Taphonomy (opts.taphonomy): the articulated-only table's numbers for this bin. */
 	double art_n, art_frac_deep, art_lo, art_hi; /* shallow + deep articulated, its share, Wilson interval */
+	/* Spatial coverage of the bin's localities (those counted in n_localities); see bc_coverage. */
+	size_t n_cells;             /* occupied cell_km x cell_km cells of EPSG:6933 */
+	double lat_range_deg;       /* northernmost minus southernmost latitude; NaN without located localities */
+	double mst_km;              /* minimum spanning tree length, km; NaN above BC_SHIFT_MST_MAX_POINTS points */
+	size_t n_unlocated;         /* of n_localities, those without coordinates (in none of the above) */
 } bc_shift_bin;
 
 /** Tests across the bins that have shallow or deep occurrences. NaN when not computable. */
@@ -673,6 +686,7 @@ typedef struct bc_shift_summary {
 	size_t n_used;              /* counted */
 	size_t n_multi_bin;         /* of n_used: age range overlapping more than one bin */
 	char data_sha256[65];       /* SHA-256 of the selected rows (doc/shift.md gives the byte layout) */
+	size_t n_bins_mst_skipped;  /* bins whose tree was not computed (BC_SHIFT_MST_MAX_POINTS) */
 } bc_shift_summary;
 
 typedef struct bc_shift bc_shift;

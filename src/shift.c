@@ -44,6 +44,8 @@
 static const char SQL_SELECT[] = SELECT_HEAD " NULL, NULL," SELECT_TAIL " FROM occurrences o" SELECT_WHERE;
 static const char SQL_SELECT_REGION[] = SELECT_HEAD " l.longitude, l.latitude," SELECT_TAIL
 	" FROM occurrences o LEFT JOIN localities l ON l.fid = o.locality_id" SELECT_WHERE;
+static const char SQL_LOCALITIES[] =
+	"SELECT fid, longitude, latitude FROM localities WHERE longitude IS NOT NULL AND latitude IS NOT NULL";
 static const char SQL_VOCABS[] =
 	"SELECT kind, name, sha256 FROM vocabularies ORDER BY kind, vocabulary_id";
 
@@ -195,6 +197,13 @@ int bc_shift_option_set(bc_shift_options *o, const char *name, const char *value
 		o->zones_given = 1;
 		return BC_OK;
 	}
+	if (strcmp(name, "cell-km") == 0) {
+		double c;
+		if (parse_positive(value, &c) || c > 20000)
+			return bc_err_set(err, BC_EUSAGE, "--cell-km: '%s' is not a cell size in km between 0 and 20000, e.g. 100", value);
+		o->cell_km = c;
+		return BC_OK;
+	}
 	if (strcmp(name, "level") == 0) {
 		double l;
 		if (parse_positive(value, &l) || l >= 1)
@@ -290,9 +299,11 @@ size_t bc_shift__place(const bc_shift__bin *bins, size_t nbins, double top, doub
 	return best;
 }
 
-int bc_shift__count(double *counts, size_t *n_refs, size_t *n_locs, bc_shift__tally *tally,
-		    const bc_shift__occ *occ, size_t n, const bc_shift__bin *bins, size_t nbins,
-		    int rule, double max_myr, size_t n_zones, size_t ref_keys, size_t loc_keys, bc_err *err)
+/* bc_shift__count; `lbits_out` (may be NULL) receives the bit set of
+ * (locality l, bin k) at l * nbins + k, for the coverage (caller frees). */
+static int count_impl(double *counts, size_t *n_refs, size_t *n_locs, uint64_t **lbits_out, bc_shift__tally *tally,
+		      const bc_shift__occ *occ, size_t n, const bc_shift__bin *bins, size_t nbins,
+		      int rule, double max_myr, size_t n_zones, size_t ref_keys, size_t loc_keys, bc_err *err)
 {
 	size_t stride = bc_shift__stride(n_zones);
 	uint64_t *rbits = NULL, *lbits = NULL;
@@ -363,8 +374,18 @@ int bc_shift__count(double *counts, size_t *n_refs, size_t *n_locs, bc_shift__ta
 		}
 	}
 	free(rbits);
-	free(lbits);
+	if (lbits_out)
+		*lbits_out = lbits;
+	else
+		free(lbits);
 	return BC_OK;
+}
+
+int bc_shift__count(double *counts, size_t *n_refs, size_t *n_locs, bc_shift__tally *tally,
+		    const bc_shift__occ *occ, size_t n, const bc_shift__bin *bins, size_t nbins,
+		    int rule, double max_myr, size_t n_zones, size_t ref_keys, size_t loc_keys, bc_err *err)
+{
+	return count_impl(counts, n_refs, n_locs, NULL, tally, occ, n, bins, nbins, rule, max_myr, n_zones, ref_keys, loc_keys, err);
 }
 
 /* ------------------------------------------------------------------ */
@@ -858,9 +879,53 @@ static int load_row(void *ctx, const bc_shift__row *r, bc_err *err)
 	return BC_OK;
 }
 
+/* The coordinates of each dense locality index (NaN when none), for the
+ * coverage: one read of the localities table, not a join per occurrence.
+ * `u` NULL: the index is the fid; else u[0 .. nloc) are the sorted fids. */
+static int load_coordinates(bc_shift *s, bc_db *db, const int64_t *u, bc_err *err)
+{
+	sqlite3_stmt *st = NULL;
+	size_t n = s->nloc ? s->nloc : 1;
+	s->loc_lon = bc__malloc(n * sizeof *s->loc_lon);
+	s->loc_lat = bc__malloc(n * sizeof *s->loc_lat);
+	if (!s->loc_lon || !s->loc_lat)
+		return oom(err);
+	for (size_t i = 0; i < n; i++)
+		s->loc_lon[i] = s->loc_lat[i] = NAN;
+	if (!s->nloc)
+		return BC_OK;
+	int rc = bc_db__prepare(db, &st, SQL_LOCALITIES, err), step = SQLITE_DONE;
+	while (rc == BC_OK && (step = sqlite3_step(st)) == SQLITE_ROW) {
+		int64_t fid = sqlite3_column_int64(st, 0);
+		size_t k = s->nloc;
+		if (!u) {
+			k = fid >= 0 && (uint64_t)fid < s->nloc ? (size_t)fid : s->nloc;
+		} else {
+			size_t lo = 0, hi = s->nloc;
+			while (lo < hi) {
+				size_t mid = (lo + hi) / 2;
+				if (u[mid] < fid)
+					lo = mid + 1;
+				else
+					hi = mid;
+			}
+			k = lo < s->nloc && u[lo] == fid ? lo : s->nloc;
+		}
+		if (k < s->nloc) {
+			s->loc_lon[k] = sqlite3_column_double(st, 1);
+			s->loc_lat[k] = sqlite3_column_double(st, 2);
+		}
+	}
+	if (rc == BC_OK && step != SQLITE_DONE)
+		rc = bc_db__error(db, err, "reading locality coordinates");
+	sqlite3_finalize(st);
+	return rc;
+}
+
 static int load(bc_shift *s, bc_db *db, bc_err *err)
 {
 	load_ctx c = {s, {NULL, 0}, NULL, 0, -1, -1, ""};
+	int64_t *u = NULL; /* sorted distinct fids when they are not used directly */
 	bc_shift__selected sel;
 	int rc = bc_shift__select(db, &s->opts, NULL, load_row, &c, &sel, err);
 	s->sum.n_selected = sel.n_selected;
@@ -876,7 +941,7 @@ static int load(bc_shift *s, bc_db *db, bc_err *err)
 			s->occ[i].loc = (int32_t)locids[i];
 		s->nloc = (size_t)maxloc + 1;
 	} else if (maxloc >= 0) {
-		int64_t *u = bc__malloc(s->nocc * sizeof *u);
+		u = bc__malloc(s->nocc * sizeof *u);
 		size_t nu = 0;
 		if (!u) {
 			rc = oom(err);
@@ -905,12 +970,13 @@ static int load(bc_shift *s, bc_db *db, bc_err *err)
 			s->occ[i].loc = (int32_t)lo;
 		}
 		s->nloc = m;
-		free(u);
 	} else {
 		for (size_t i = 0; i < s->nocc; i++)
 			s->occ[i].loc = -1;
 	}
+	rc = load_coordinates(s, db, u, err);
 done:
+	free(u);
 	free(c.refs.slot);
 	free(c.locids);
 	return rc;
@@ -993,6 +1059,67 @@ static void bin_stats(bc_shift *s, const double *counts, const size_t *nrefs, co
 	}
 }
 
+typedef struct lonlat {
+	double lon, lat;
+} lonlat;
+
+static int lonlat_cmp(const void *a, const void *b)
+{
+	const lonlat *p = a, *q = b;
+	if (p->lon != q->lon)
+		return p->lon < q->lon ? -1 : 1;
+	return (p->lat > q->lat) - (p->lat < q->lat);
+}
+
+/* Spatial coverage of each reported bin: the localities counted in its
+ * n_localities (bit l * ncand + first + i of `lbits`), their coordinates
+ * through the geo module's bc_coverage_points. */
+static int bin_coverage(bc_shift *s, const uint64_t *lbits, size_t ncand, size_t first, bc_err *err)
+{
+	bc_coverage_options co = BC_COVERAGE_OPTIONS_INIT;
+	co.cell_km = s->opts.cell_km;
+	co.mst_max_points = BC_SHIFT_MST_MAX_POINTS;
+	double *lon = bc__malloc((s->nloc ? s->nloc : 1) * sizeof *lon), *lat = bc__malloc((s->nloc ? s->nloc : 1) * sizeof *lat);
+	lonlat *pt = bc__malloc((s->nloc ? s->nloc : 1) * sizeof *pt);
+	int rc = lon && lat && pt ? BC_OK : oom(err);
+	for (size_t i = 0; rc == BC_OK && i < s->nbins; i++) {
+		bc_shift_bin *b = &s->out[i];
+		size_t m = 0, unloc = 0, k = first + i;
+		for (size_t l = 0; l < s->nloc; l++) {
+			if (!bit_get(lbits, l * ncand + k))
+				continue;
+			if (isnan(s->loc_lon[l])) {
+				unloc++;
+				continue;
+			}
+			pt[m++] = (lonlat){s->loc_lon[l], s->loc_lat[l]};
+		}
+		/* Localities at the same point add no cell, latitude or tree
+		 * length: each point goes to the geo module once. */
+		qsort(pt, m, sizeof *pt, lonlat_cmp);
+		size_t np = 0;
+		for (size_t j = 0; j < m; j++)
+			if (np == 0 || lonlat_cmp(&pt[j], &pt[np - 1]) != 0) {
+				lon[np] = pt[j].lon;
+				lat[np] = pt[j].lat;
+				pt[np++] = pt[j];
+			}
+		m = np;
+		bc_coverage cv;
+		b->n_unlocated = unloc;
+		if ((rc = bc_coverage_points(&cv, lon, lat, m, &co, err)) != BC_OK)
+			break;
+		b->n_cells = cv.n_cells;
+		b->lat_range_deg = cv.lat_range;
+		b->mst_km = cv.mst_km;
+		s->sum.n_bins_mst_skipped += (size_t)isnan(cv.mst_km);
+	}
+	free(lon);
+	free(lat);
+	free(pt);
+	return rc;
+}
+
 static void across_stats(bc_shift *s)
 {
 	bc_shift_tests *t = &s->tests;
@@ -1073,6 +1200,8 @@ void bc_shift_free(bc_shift *s)
 	free(s->bins_file_sha);
 	free(s->vocabs);
 	free(s->occ);
+	free(s->loc_lon);
+	free(s->loc_lat);
 	for (size_t i = 0; i < s->nref; i++)
 		free(s->refkeys[i]);
 	free(s->refkeys);
@@ -1165,6 +1294,7 @@ int bc_shift_compute(bc_shift **out, bc_db *db, const bc_shift_options *opts, bc
 	*out = NULL;
 	double *counts = NULL;
 	size_t *nrefs = NULL, *nlocs = NULL, ncand = 0;
+	uint64_t *lbits = NULL;
 	bc_shift__bin *cand = NULL;
 	int rc = BC_OK;
 	if (!opts->n_zones || opts->n_zones > BC_SHIFT_MAX_ZONES)
@@ -1222,7 +1352,7 @@ int bc_shift_compute(bc_shift **out, bc_db *db, const bc_shift_options *opts, bc
 		goto done;
 	}
 	bc_shift__tally tally;
-	rc = bc_shift__count(counts, nrefs, nlocs, &tally, s->occ, s->nocc, cand, ncand, (int)s->opts.span,
+	rc = count_impl(counts, nrefs, nlocs, &lbits, &tally, s->occ, s->nocc, cand, ncand, (int)s->opts.span,
 		s->opts.span_max_myr, nz, s->nref, s->nloc, err);
 	if (rc)
 		goto done;
@@ -1256,6 +1386,8 @@ int bc_shift_compute(bc_shift **out, bc_db *db, const bc_shift_options *opts, bc
 		cand[first + k].name = NULL; /* moved */
 	}
 	bin_stats(s, counts, nrefs, nlocs, first);
+	if ((rc = bin_coverage(s, lbits, ncand, first, err)) != BC_OK)
+		goto done;
 	across_stats(s);
 	rc = bc_resample__run(s, db, opts->chart, err);
 done:
@@ -1263,6 +1395,7 @@ done:
 	free(counts);
 	free(nrefs);
 	free(nlocs);
+	free(lbits);
 	if (rc) {
 		bc_shift_free(s);
 		return rc;
@@ -1390,6 +1523,10 @@ static void describe_options(const bc_shift_options *o, bc_buf *b)
 	put_arg(b, o->zones_given ? "zones" : "split", v);
 	snprintf(v, sizeof v, "%g", o->level);
 	put_arg(b, "level", v);
+	if (o->cell_km != 100.0) {
+		snprintf(v, sizeof v, "%g", o->cell_km);
+		put_arg(b, "cell-km", v);
+	}
 	bc_resample__describe_options(o, b);
 }
 
@@ -1424,6 +1561,13 @@ static int build_table(const bc_shift *s, bc_table **out, bc_err *err)
 	size_t ncol_shift = bc_output__column_count(t);
 	if (rc == BC_OK)
 		rc = bc_resample__columns(s, t, err);
+	/* spatial coverage, after every other column */
+	size_t ncol_cov = bc_output__column_count(t);
+	static const struct { const char *name; bc_col_type type; int digits; } cov[] = {
+		{"n_cells", BC_COL_COUNT, 0}, {"lat_range_deg", BC_COL_REAL, 2}, {"mst_km", BC_COL_REAL, 0}, {"n_unlocated", BC_COL_COUNT, 0},
+	};
+	for (size_t i = 0; rc == BC_OK && i < sizeof cov / sizeof cov[0]; i++)
+		rc = bc_output__add_column(t, cov[i].name, cov[i].type, cov[i].digits, err);
 	for (size_t i = 0; rc == BC_OK && i < s->nbins; i++) {
 		const bc_shift_bin *x = &s->out[i];
 		rc = bc_output__add_row(t, err);
@@ -1443,6 +1587,9 @@ static int build_table(const bc_shift *s, bc_table **out, bc_err *err)
 			bc_output__set_num(t, nfix + s->opts.n_zones + 1, x->n_zone_straddle);
 		}
 		bc_resample__row(s, t, i, ncol_shift);
+		const double cv[] = {(double)x->n_cells, x->lat_range_deg, x->mst_km, (double)x->n_unlocated};
+		for (size_t c = 0; c < sizeof cv / sizeof cv[0]; c++)
+			bc_output__set_num(t, ncol_cov + c, cv[c]);
 	}
 	/* Caption: selection, binning, zoning, chart. */
 	if (rc == BC_OK) {
@@ -1597,6 +1744,14 @@ int bc_shift__stamp(const bc_shift *s, bc_table *t, bc_err *err)
 	if (rc == BC_OK)
 		rc = bc_resample__stamp(s, t, err);
 	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "coverage", err, "per bin, the localities counted in n_localities: n_cells = occupied %g x %g km cells "
+			"of EPSG:6933 (WGS 84 / NSIDC EASE-Grid 2.0 Global, equal-area; grid origin at its 0,0), lat_range_deg = northernmost minus "
+			"southernmost latitude, mst_km = summed geodesic length (WGS 84) of the minimum spanning tree of their distinct points, "
+			"n_unlocated = localities without coordinates (in none of these); mst_km is NA for a bin with more than %d distinct points "
+			"(the tree takes time in the square of the points): %zu bins. A shift between bins whose coverage differs much can be a change "
+			"in where people collected rather than in habitat",
+			s->opts.cell_km, s->opts.cell_km, BC_SHIFT_MST_MAX_POINTS, u->n_bins_mst_skipped);
+	if (rc == BC_OK)
 		rc = bc_output__meta_text(t, S, "caution", err, "%s", CAUTION);
 	return rc;
 }
@@ -1618,6 +1773,7 @@ static const char REFERENCES[] =
 	"Cochran WG (1954) Some methods for strengthening the common chi-square tests. Biometrics 10(4):417-451.\n"
 	"Cohen KM, Finney SC, Gibbard PL, Fan J-X (2013; updated) The ICS International Chronostratigraphic Chart. Episodes 36(3):199-204.\n"
 	"Fisher RA (1935) The Design of Experiments. Oliver and Boyd, Edinburgh.\n"
+	"Karney CFF (2013) Algorithms for geodesics. Journal of Geodesy 87(1):43-55.\n"
 	"Newcombe RG (1998a) Two-sided confidence intervals for the single proportion: comparison of seven methods. Statistics in Medicine 17(8):857-872.\n"
 	"Newcombe RG (1998b) Interval estimation for the difference between independent proportions: comparison of eleven methods. Statistics in Medicine 17(8):873-890.\n"
 	"Wilson EB (1927) Probable inference, the law of succession, and statistical inference. Journal of the American Statistical Association 22(158):209-212.\n";
@@ -1725,6 +1881,12 @@ int bc_shift_write_methods(const bc_shift *s, FILE *f, bc_err *err)
 		bc__buf_printf(&b, "; most likely breakpoint between %s and %s (%g Ma, likelihood-ratio statistic %.2f)", t->break_before, t->break_after, t->break_ma, t->break_lr);
 	if (isfinite(t->trend_z))
 		bc__buf_puts(&b, ". ");
+	bc__buf_printf(&b, "Spatial coverage of each bin is given by its distinct localities: the number of occupied %g x %g km cells of the "
+		"equal-area EASE-Grid 2.0 (EPSG:6933), the latitudinal range, and the length of the minimum spanning tree joining the localities "
+		"(geodesic distances on WGS 84; Karney 2013)", o->cell_km, o->cell_km);
+	if (u->n_bins_mst_skipped)
+		bc__buf_printf(&b, ", which was not computed for %zu bins with more than %d distinct localities", u->n_bins_mst_skipped, BC_SHIFT_MST_MAX_POINTS);
+	bc__buf_puts(&b, "; a change in the deep share between bins that differ much in coverage may reflect where collecting took place rather than habitat. ");
 	bc_resample__methods(s, &b);
 	bc__buf_puts(&b, CAUTION "\n\n");
 	size_t list_at = b.len + strlen("References\n\n");

@@ -188,6 +188,7 @@ struct bc_shift {
 	char **refkeys;
 	size_t nref;
 	size_t nloc;
+	double *loc_lon, *loc_lat;  /* per dense locality index: WGS 84 coordinates, NaN when none */
 	bc_shift__bin *bins;        /* the reported span of bins, oldest first */
 	size_t nbins;
 	bc_shift_bin *out;

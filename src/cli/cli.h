@@ -49,7 +49,8 @@ enum {
 	CLI_SHIFT_DRAWS = 32u,    /* --draws --seed --threads --resample */
 	CLI_SHIFT_BOOTSTRAP = 64u, /* --bootstrap */
 	CLI_SHIFT_BIAS = 128u,    /* --weight-references --background --background-with-focal --quota --taphonomy */
-	CLI_SHIFT_ALL = 255u
+	CLI_SHIFT_COVERAGE = 256u, /* --cell-km */
+	CLI_SHIFT_ALL = 511u
 };
 
 /** What the shared options set. Start from CLI_SHIFT_ARGS_INIT. */

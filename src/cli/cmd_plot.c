@@ -65,7 +65,7 @@ int cmd_plot(int argc, char **argv)
 			po.older_right = 1;
 			continue;
 		}
-		int taken = cli_shift_arg("plot", CLI_SHIFT_ALL & ~CLI_SHIFT_BIAS, argc, argv, &i, &sa);
+		int taken = cli_shift_arg("plot", CLI_SHIFT_ALL & ~(CLI_SHIFT_BIAS | CLI_SHIFT_COVERAGE), argc, argv, &i, &sa);
 		if (taken < 0)
 			return CLI_USAGE;
 		if (taken)

@@ -15,11 +15,15 @@ static const char help_head[] =
 	"Per stratigraphic bin, oldest first: how many selected occurrences were\n"
 	"shallow, deep or straddling the depth boundary, the deep share with a\n"
 	"Wilson interval, the change from the previous bin (Newcombe interval,\n"
-	"Fisher exact p), references, localities and articulation classes; below\n"
-	"the table, trend tests across bins and a methods stamp.\n"
+	"Fisher exact p), references, localities, articulation classes and the\n"
+	"spatial coverage of the localities; below the table, trend tests across\n"
+	"bins and a methods stamp.\n"
 	"\n";
 
 static const char help_tail[] =
+	"Spatial coverage (columns n_cells, lat_range_deg, mst_km, n_unlocated):\n"
+	"  --cell-km KM         edge of the equal-area cells (EPSG:6933) counted in n_cells\n"
+	"                       (default 100); mst_km is NA above 3000 distinct points a bin\n"
 	"Output:\n"
 	"  --table T            bins (default) or taphonomy (the sensitivity table; needs\n"
 	"                       --taphonomy)\n"

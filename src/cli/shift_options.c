@@ -18,7 +18,7 @@ static const struct {
 	{"group", CLI_SHIFT_SELECT, 0}, {"taxon", CLI_SHIFT_SELECT, 0}, {"preservation", CLI_SHIFT_SELECT, 0},
 	{"region", CLI_SHIFT_SELECT, 0}, {"timescale", CLI_SHIFT_TIMESCALE, 0}, {"bins", CLI_SHIFT_BINNING, 0},
 	{"span", CLI_SHIFT_BINNING, 0}, {"split", CLI_SHIFT_ZONING, 0}, {"zones", CLI_SHIFT_ZONING, 0},
-	{"level", CLI_SHIFT_LEVEL, 0},
+	{"level", CLI_SHIFT_LEVEL, 0}, {"cell-km", CLI_SHIFT_COVERAGE, 0},
 	/* uncertainty: the resampling draws ... */
 	{"draws", CLI_SHIFT_DRAWS, 0}, {"seed", CLI_SHIFT_DRAWS, 0}, {"threads", CLI_SHIFT_DRAWS, 0},
 	{"resample", CLI_SHIFT_DRAWS, 0}, {"bootstrap", CLI_SHIFT_BOOTSTRAP, 1},
