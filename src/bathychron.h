@@ -460,9 +460,11 @@ int bc_export_dwca(bc_db *db, const char *path, long long *n_rows, bc_err *err);
  */
 typedef struct bc_coverage_options {
 	double cell_km;   /* edge of the equal-area grid cells, km (> 0) */
+	size_t mst_max_points; /* > 0: with more distinct points than this the tree (O(n^2)) is
+				* not computed and mst_km is NaN; 0: no limit */
 } bc_coverage_options;
-/** Cells of 100 km on EPSG:6933 (WGS 84 / NSIDC EASE-Grid 2.0 Global). */
-#define BC_COVERAGE_OPTIONS_INIT {100.0}
+/** Cells of 100 km on EPSG:6933 (WGS 84 / NSIDC EASE-Grid 2.0 Global); no limit on the tree. */
+#define BC_COVERAGE_OPTIONS_INIT {100.0, 0}
 
 typedef struct bc_coverage {
 	size_t n_localities;       /* distinct localities with coordinates */
@@ -472,7 +474,8 @@ typedef struct bc_coverage {
 	double cell_km;            /* the cell edge used */
 	double min_lat, max_lat;   /* WGS 84 degrees; NaN when n_localities is 0 */
 	double lat_range;          /* max_lat - min_lat, degrees; 0 for one locality, NaN for none */
-	double mst_km;             /* summed geodesic length (WGS 84) of the minimum spanning tree, km */
+	double mst_km;             /* summed geodesic length (WGS 84) of the minimum spanning tree, km;
+				      NaN when opts->mst_max_points was exceeded */
 } bc_coverage;
 
 /**
@@ -580,13 +583,18 @@ typedef struct bc_shift_options {
 	int background_with_focal;  /* 1: the background includes the focal selection */
 	size_t quota;               /* > 0: subsample each bin to this many shallow + deep occurrences */
 	int taphonomy;              /* 1: articulated-only sensitivity and the transport flag */
+	/* spatial coverage per bin (doc/shift.md, "Spatial coverage") */
+	double cell_km;             /* edge of the equal-area cells counted in n_cells, km (default 100) */
 } bc_shift_options;
 
 /** Defaults: no selection, default chart, stage bins, majority rule, split at 200 m, 95 %,
  * no resampling (seed 1, both age and depth resampled once draws are asked for). */
 #define BC_SHIFT_OPTIONS_INIT { NULL, NULL, NULL, 0, {0, 0, 0, 0}, NULL, NULL, BC_BINS_STAGE, 0.0, NULL, \
 	BC_SPAN_MAJORITY, 0.0, 1, {200.0}, 0, 0.95, 0, 1, 0, BC_RESAMPLE_AGE | BC_RESAMPLE_DEPTH, 0, 0, \
-	BC_BACKGROUND_NONE, 0, 0, 0 }
+	BC_BACKGROUND_NONE, 0, 0, 0, 100.0 }
+
+/** Bins with more distinct located points than this get mst_km NaN (the tree is O(n^2); doc/shift.md). */
+#define BC_SHIFT_MST_MAX_POINTS 3000
 
 /** Replicates used by --weight-references and --quota when `draws` is 0. */
 #define BC_SHIFT_DEFAULT_REPLICATES 1000
@@ -594,7 +602,7 @@ typedef struct bc_shift_options {
 /**
  * Sets one option by its command-line name without the dashes ("group",
  * "taxon", "preservation", "region", "timescale", "bins", "span", "split",
- * "zones", "level"; and "draws", "seed", "threads", "resample", "background",
+ * "zones", "level", "cell-km"; and "draws", "seed", "threads", "resample", "background",
  * "quota", with the flags "bootstrap", "weight-references",
  * "background-with-focal", "taphonomy" taking "yes" or "no"). `value` is
  * borrowed where the field is a string.
@@ -634,6 +642,11 @@ typedef struct bc_shift_bin {
 	double quota_lo, quota_mid, quota_hi; /* NaN when the bin has fewer than quota */
 	/* Taphonomy (opts.taphonomy): the articulated-only table's numbers for this bin. */
 	double art_n, art_frac_deep, art_lo, art_hi; /* shallow + deep articulated, its share, Wilson interval */
+	/* Spatial coverage of the bin's localities (those counted in n_localities); see bc_coverage. */
+	size_t n_cells;             /* occupied cell_km x cell_km cells of EPSG:6933 */
+	double lat_range_deg;       /* northernmost minus southernmost latitude; NaN without located localities */
+	double mst_km;              /* minimum spanning tree length, km; NaN above BC_SHIFT_MST_MAX_POINTS points */
+	size_t n_unlocated;         /* of n_localities, those without coordinates (in none of the above) */
 } bc_shift_bin;
 
 /** Tests across the bins that have shallow or deep occurrences. NaN when not computable. */
@@ -673,6 +686,7 @@ typedef struct bc_shift_summary {
 	size_t n_used;              /* counted */
 	size_t n_multi_bin;         /* of n_used: age range overlapping more than one bin */
 	char data_sha256[65];       /* SHA-256 of the selected rows (doc/shift.md gives the byte layout) */
+	size_t n_bins_mst_skipped;  /* bins whose tree was not computed (BC_SHIFT_MST_MAX_POINTS) */
 } bc_shift_summary;
 
 typedef struct bc_shift bc_shift;
@@ -732,8 +746,10 @@ typedef enum bc_ranges_rank {
 
 /**
  * Options of bc_ranges_compute. `sel` carries the selection, --timescale
- * (chart interval names), the zoning and the confidence level exactly as
- * for shift; its binning fields are not used. Strings are borrowed.
+ * (chart interval names), the zoning, the confidence level and the
+ * resampling draws (draws, seed, threads, resample) exactly as for shift;
+ * its binning fields are not used, and its bootstrap and bias options are
+ * refused (BC_EUSAGE). Strings are borrowed.
  */
 typedef struct bc_ranges_options {
 	bc_shift_options sel;
@@ -762,9 +778,17 @@ typedef struct bc_range_zone {
 	double last_older_ma, last_younger_ma;
 	const char *last_interval;
 	double ci_extension;         /* Marshall (1990) r = (1 - C)^(-1/(H-1)) - 1, C = level; NaN when H < 2 */
-	double first_ci_ma;          /* oldest midpoint + r * (observed range of midpoints) */
+	double first_ci_ma;          /* oldest midpoint + r * (observed range of midpoints), not beyond the
+				      * older bound of the chart's eon holding the oldest midpoint */
 	double last_ci_ma;           /* youngest midpoint - r * range, not below 0 */
+	unsigned ci_capped;          /* BC_RANGE_CAPPED_* bits: the limit was held at that bound */
 } bc_range_zone;
+
+/** Which confidence limit of a zone was held at its bound (bc_range_zone.ci_capped). */
+enum {
+	BC_RANGE_CAPPED_FIRST = 1,   /* first_ci_ma held at the base of the eon (or of the chart) */
+	BC_RANGE_CAPPED_LAST = 2     /* last_ci_ma held at 0 Ma */
+};
 
 /** How the shallow range's end stands to the deep range (bit set of the possible ones). */
 enum {
@@ -785,6 +809,10 @@ typedef struct bc_range_taxon {
 				      * limit is still older than the deep range's last occurrence; 0: it ends
 				      * first but the limit reaches the deep end (or one horizon only);
 				      * -1: does not apply */
+	/* Resampling draws (sel.draws > 0; doc/ranges.md): NaN otherwise. */
+	int has_draws;
+	double draws_both;           /* share of draws in which the taxon had shallow and deep occurrences */
+	double p_ends_before, p_overlaps, p_outlasts; /* how often each relation occurred in those draws; NaN when none */
 } bc_range_taxon;
 
 typedef struct bc_ranges_summary {
@@ -798,6 +826,9 @@ typedef struct bc_ranges_summary {
 	size_t n_ends_before, n_overlaps, n_outlasts, n_unresolved; /* taxa with one certain relation, or several possible */
 	size_t n_retreat_supported, n_retreat_weak;
 	char data_sha256[65];        /* doc/ranges.md gives the byte layout */
+	size_t n_draws;              /* resampling draws made (0: none) */
+	size_t n_age_drawn;          /* occurrences whose age was drawn in each draw */
+	size_t n_depth_drawn;        /* straddling occurrences given a drawn depth in each draw */
 } bc_ranges_summary;
 
 typedef struct bc_ranges bc_ranges;
@@ -819,6 +850,9 @@ const bc_ranges_summary *bc_ranges_summary_get(const bc_ranges *r);
 
 /** Writes the table with its summary and methods stamp in `format`. */
 int bc_ranges_write(const bc_ranges *r, FILE *f, bc_format format, bc_err *err);
+
+/** Writes a methods paragraph (plain text) describing exactly what was done, with references. BC_EIO when the stream fails. */
+int bc_ranges_write_methods(const bc_ranges *r, FILE *f, bc_err *err);
 
 /**
  * Draws one row per taxon: its shallow and deep ranges over the timescale
@@ -1097,7 +1131,8 @@ void bc_plot_cleanup(void);
 /**
  * The default caption of a shift figure, in words: the selection, the
  * binning and span rule, the zoning, the chart, how many occurrences were
- * counted and why others were left out. `opts` are the options `s` was
+ * counted and why others were left out, and with draws what the band shows
+ * (quantiles, number of draws, seed, what was resampled). `opts` are the options `s` was
  * computed with; `chart_name` names the chart of the timescale bar (NULL:
  * none). `*out` is the caller's; free it with free().
  */
@@ -1106,8 +1141,9 @@ int bc_plot_shift_caption(char **out, const bc_shift *s, const bc_shift_options 
 
 /**
  * Draws a computed shift table: its bins one to one (has_frac when a bin
- * has shallow or deep occurrences; no resampling band yet), the interval
- * level of `opts`, and, when `opt->caption` is NULL, the caption of
+ * has shallow or deep occurrences; the resampling band from draw_lo,
+ * draw_mid, draw_hi when the table has draws and the bin a median), the
+ * interval level of `opts`, and, when `opt->caption` is NULL, the caption of
  * bc_plot_shift_caption(). Otherwise as bc_plot_shift(). Nothing is kept
  * from the arguments.
  */

@@ -597,7 +597,10 @@ int bc_coverage_points(bc_coverage *out, const double *lon, const double *lat, s
 			if (m == 0 || loc_ll_cmp(&pts[i], &pts[m - 1]) != 0)
 				pts[m++] = pts[i];
 		double mst = 0;
-		rc = loc_mst_m(pts, m, &mst, err);
+		if (opts->mst_max_points && m > opts->mst_max_points)
+			mst = NAN; /* the caller's limit on the O(n^2) tree */
+		else
+			rc = loc_mst_m(pts, m, &mst, err);
 		out->mst_km = mst / 1000.0;
 	}
 	bc_geo__free(g);

@@ -504,8 +504,13 @@ static size_t plot_legend_items(const plot *p, plot_leg_item *it)
 		snprintf(h.text, sizeof h.text, "Hollow: fewer than %g shallow + deep", p->o.few);
 		it[k++] = h;
 	}
-	if (p->any_band)
-		it[k++] = (plot_leg_item){LEG_BAND, OI_ORANGE, "Resampling 2.5-97.5 % (dashed: median)"};
+	if (p->any_band) {
+		/* the band is the (1 - level)/2 .. (1 + level)/2 quantiles of the draws */
+		plot_leg_item band = {LEG_BAND, OI_ORANGE, ""};
+		snprintf(band.text, sizeof band.text, "Resampling %g-%g %% (dashed: median)", 50.0 * (1.0 - p->o.level),
+			50.0 * (1.0 + p->o.level));
+		it[k++] = band;
+	}
 	it[k++] = (plot_leg_item){LEG_SWATCH, OI_BLUE, "Deep"};
 	it[k++] = (plot_leg_item){LEG_SWATCH, OI_SKY, "Shallow"};
 	it[k++] = (plot_leg_item){LEG_SWATCH, GREY_STRADDLE, "Straddling the boundary"};
@@ -1571,6 +1576,29 @@ int bc_plot__zoning_words(bc_buf *b, const bc_shift_options *o)
 	return rc ? BC_ENOMEM : BC_OK;
 }
 
+/* The resampling band in words: what was drawn, how often, with which seed. */
+static int plot_band_words(bc_buf *b, const bc_shift *s, const bc_shift_options *opts)
+{
+	const bc_shift_tests *t = bc_shift_tests_get(s);
+	int rc = BC_OK;
+	int age = (opts->resample & BC_RESAMPLE_AGE) != 0, depth = (opts->resample & BC_RESAMPLE_DEPTH) != 0;
+	if (!t->n_draws)
+		return BC_OK;
+	rc |= bc__buf_printf(b, " Shaded band: %g-%g %% quantiles of the deep share over %zu resampling draws (seed %llu) in which ",
+		50.0 * (1.0 - opts->level), 50.0 * (1.0 + opts->level), t->n_draws, (unsigned long long)opts->seed);
+	if (age)
+		rc |= bc__buf_puts(b, "each age was drawn uniformly within its age range");
+	if (depth)
+		rc |= bc__buf_printf(b, "%seach depth range crossing %g m gave a depth drawn uniformly within it", age ? " and " : "",
+			opts->zones[0]);
+	if (opts->bootstrap)
+		rc |= bc__buf_printf(b, "%sthe occurrences were resampled with replacement (bootstrap)", age || depth ? ", and " : "");
+	rc |= bc__buf_puts(b, "; dashed line: their median.");
+	if (!opts->bootstrap)
+		rc |= bc__buf_puts(b, " The band shows age and depth uncertainty only, not sampling error.");
+	return rc ? BC_ENOMEM : BC_OK;
+}
+
 int bc_plot_shift_caption(char **out, const bc_shift *s, const bc_shift_options *opts, const char *chart_name,
 			  bc_err *err)
 {
@@ -1625,6 +1653,7 @@ int bc_plot_shift_caption(char **out, const bc_shift *s, const bc_shift_options 
 		rc |= bc__buf_printf(&b, ". Timescale bar: chart %s.", chart_name);
 	else
 		rc |= bc__buf_puts(&b, ".");
+	rc |= plot_band_words(&b, s, opts);
 	if (rc || !b.data) {
 		bc__buf_free(&b);
 		return bc_err_set(err, BC_ENOMEM, "out of memory");
@@ -1663,7 +1692,14 @@ int bc_plot_shift_table(const char *path, const bc_shift *s, const bc_shift_opti
 		b->frac = x->frac_deep;
 		b->lo = x->frac_deep_lo;
 		b->hi = x->frac_deep_hi;
-		b->has_band = 0; /* resampling percentiles are not part of the table yet */
+		/* the resampling band: quantiles of frac_deep over the draws in
+		 * which the bin had shallow or deep occurrences */
+		b->has_band = x->has_draws && isfinite(x->draw_mid);
+		if (b->has_band) {
+			b->band_lo = x->draw_lo;
+			b->band_mid = x->draw_mid;
+			b->band_hi = x->draw_hi;
+		}
 	}
 	if (!o.caption) {
 		rc = bc_plot_shift_caption(&caption, s, opts, chart ? bc_chart_name(chart) : NULL, err);

@@ -10,10 +10,10 @@
 #include "db.h"
 #include "output.h"
 #include "plot.h"
+#include "resample.h"
 #include "shift.h"
 
 #include <math.h>
-#include <nettle/sha2.h>
 #include <stdlib.h>
 #include <string.h>
 #include <strings.h>
@@ -24,31 +24,14 @@
 #define FIGURE_CAUTION "Palaeodepths are interpretations of the sources; a range ends at the last find, and a shallow range that ends " \
 	"early on one or two occurrences is weak evidence of a retreat."
 #define EPS 1e-9
-
-/* Selection as in shift.c (doc/shift.md), plus the name at the chosen rank. */
-static const char SQL_SELECT[] =
-	"SELECT o.occurrence_pk, o.older_ma, o.younger_ma, o.min_depth_m, o.max_depth_m,"
-	" o.reference_key, o.locality_id, o.articulation, l.longitude, l.latitude,"
-	" CASE :rank WHEN 'family' THEN o.family WHEN 'order' THEN o.\"order\""
-	"  WHEN 'species' THEN o.scientific_name"
-	"  ELSE CASE WHEN trim(o.genus) <> '' THEN o.genus"
-	"   WHEN instr(trim(o.scientific_name), ' ') > 0 THEN substr(trim(o.scientific_name), 1, instr(trim(o.scientific_name), ' ') - 1)"
-	"   ELSE o.scientific_name END END"
-	" FROM occurrences o LEFT JOIN localities l ON l.fid = o.locality_id"
-	" WHERE (:grp IS NULL OR o.taxon_group = :grp COLLATE NOCASE)"
-	" AND (:taxon IS NULL OR o.scientific_name = :taxon COLLATE NOCASE OR o.genus = :taxon COLLATE NOCASE"
-	"  OR o.family = :taxon COLLATE NOCASE OR o.\"order\" = :taxon COLLATE NOCASE"
-	"  OR o.scientific_name LIKE :taxon_prefix ESCAPE '\\')"
-	" AND (:artic IS NULL OR o.articulation = :artic COLLATE NOCASE)"
-	" AND (:pres IS NULL OR o.preservation = :pres COLLATE NOCASE)"
-	" ORDER BY o.occurrence_pk";
-static const char SQL_VOCABS[] = "SELECT kind, name, sha256 FROM vocabularies ORDER BY kind, vocabulary_id";
+#define RANGES_RNG_WORDS "xoshiro256** (Blackman and Vigna 2021), one generator per draw seeded by splitmix64 (Steele, Lea and Flood 2014) from (seed, stream 4, draw index)"
 
 static const char *const rank_names[] = {"genus", "family", "order", "species"};
 
 typedef struct rocc {
 	int64_t pk, loc;       /* loc -1: none */
 	double older, younger, mid;
+	double dmin, dmax;     /* palaeodepth range, m (one stored end stands for both) */
 	char *name, *ref;      /* owned */
 	int z2, zk;            /* zones at the first boundary / at every boundary; -1 straddling */
 } rocc;
@@ -60,9 +43,10 @@ struct bc_ranges {
 	bc_chart *chart_owned;
 	const bc_chart *chart;
 	rocc *occ;
-	size_t nocc;
+	size_t nocc, capocc;
 	bc_range_taxon *taxa;
 	size_t ntaxa;
+	size_t *tfirst;             /* taxon t's occurrences are occ[tfirst[t] .. tfirst[t + 1]) */
 	bc_range_zone *zones;       /* ntaxa x (n_zones + 1) with --zones */
 	char **strs;                /* interval names, freed with the result */
 	size_t nstrs, capstrs;
@@ -95,6 +79,19 @@ int bc_ranges_option_set(bc_ranges_options *o, const char *name, const char *val
 	return bc_shift_option_set(&o->sel, name, value, err);
 }
 
+double bc_ranges__first_cap(const bc_chart *c, double t)
+{
+	double base = -INFINITY;
+	size_t n = c ? bc_chart_count(c) : 0;
+	for (size_t i = 0; i < n; i++) {
+		const bc_interval *iv = bc_chart_interval(c, i);
+		if (iv->rank == BC_RANK_EON && t > iv->younger_ma + EPS && t <= iv->older_ma + EPS)
+			return iv->older_ma;
+		base = fmax(base, iv->older_ma);
+	}
+	return base > -INFINITY && t <= base + EPS ? base : INFINITY;
+}
+
 double bc_ranges__extension(size_t h, double level)
 {
 	if (h < 2 || !(level > 0 && level < 1))
@@ -119,195 +116,64 @@ unsigned bc_ranges__relation(double s_young, double s_old, double f_young, doubl
 /* Loading                                                              */
 /* ------------------------------------------------------------------ */
 
-static int art_class_name(const char *s, const char **out)
+/* One selected row: the name at the rank first, then the palaeodepth. */
+static int load_row(void *ctx, const bc_shift__row *row, bc_err *err)
 {
-	static const char *const cls[] = {"articulated", "partly articulated", "disarticulated", "unknown"};
-	*out = NULL;
-	if (!s)
-		return 0;
-	for (int i = 0; i < 4; i++)
-		if (strcasecmp(s, cls[i]) == 0)
-			*out = cls[i];
-	if (strcasecmp(s, "partly-articulated") == 0 || strcasecmp(s, "partly_articulated") == 0)
-		*out = cls[1];
-	return *out != NULL;
-}
-
-static int in_region(const double r[4], double lon, double lat)
-{
-	if (lat < r[1] || lat > r[3])
-		return 0;
-	if (r[0] <= r[2])
-		return lon >= r[0] && lon <= r[2];
-	return lon >= r[0] || lon <= r[2];
-}
-
-static void put_le64(struct sha256_ctx *h, uint64_t v)
-{
-	uint8_t b[8];
-	for (int i = 0; i < 8; i++)
-		b[i] = (uint8_t)(v >> (8 * i));
-	sha256_update(h, 8, b);
-}
-
-static void put_str(struct sha256_ctx *h, const char *s)
-{
-	size_t n = strlen(s);
-	uint8_t b[4] = {(uint8_t)n, (uint8_t)(n >> 8), (uint8_t)(n >> 16), (uint8_t)(n >> 24)};
-	sha256_update(h, 4, b);
-	sha256_update(h, n, (const uint8_t *)s);
+	bc_ranges *r = ctx;
+	const bc_shift_options *o = &r->opts.sel;
+	const char *name = row->name;
+	size_t nl = strlen(name);
+	while (nl && name[nl - 1] == ' ')
+		nl--;
+	while (nl && *name == ' ') {
+		name++;
+		nl--;
+	}
+	if (!nl) {
+		r->sum.n_no_name++;
+		return BC_OK;
+	}
+	if (isnan(row->dmin) && isnan(row->dmax)) {
+		r->sum.n_no_depth++;
+		return BC_OK;
+	}
+	if (r->nocc == r->capocc) {
+		size_t nc = r->capocc ? 2 * r->capocc : 1024;
+		rocc *p = bc__realloc(r->occ, nc * sizeof *p);
+		if (!p)
+			return oom(err);
+		r->occ = p;
+		r->capocc = nc;
+	}
+	rocc *x = &r->occ[r->nocc];
+	memset(x, 0, sizeof *x);
+	if (!(x->name = bc__strndup(name, nl)) || !(x->ref = bc__strdup(row->ref))) {
+		free(x->name);
+		return oom(err);
+	}
+	r->nocc++;
+	x->pk = row->pk;
+	x->loc = row->loc;
+	x->older = row->older;
+	x->younger = row->younger;
+	x->mid = (row->older + row->younger) / 2;
+	double dmin = isnan(row->dmin) ? row->dmax : row->dmin, dmax = isnan(row->dmax) ? row->dmin : row->dmax;
+	x->dmin = dmin;
+	x->dmax = dmax;
+	x->z2 = bc_shift__zone(dmin, dmax, o->zones, 1);
+	x->zk = bc_shift__zone(dmin, dmax, o->zones, o->n_zones);
+	return BC_OK;
 }
 
 static int load(bc_ranges *r, bc_db *db, bc_err *err)
 {
-	sqlite3_stmt *st = NULL;
-	char *prefix = NULL;
-	size_t cap = 0;
-	struct sha256_ctx hash;
-	const bc_shift_options *o = &r->opts.sel;
-	int rc = bc_db__prepare(db, &st, SQL_SELECT, err);
-	if (rc)
-		return rc;
-	const char *artic = NULL;
-	art_class_name(o->preservation, &artic);
-	if (o->taxon) {
-		bc_buf b = {0};
-		int bad = 0;
-		for (const char *p = o->taxon; *p && !bad; p++) {
-			if (*p == '%' || *p == '_' || *p == '\\')
-				bad |= bc__buf_puts(&b, "\\");
-			bad |= bc__buf_append(&b, p, 1);
-		}
-		bad |= bc__buf_puts(&b, " %");
-		if (bad) {
-			bc__buf_free(&b);
-			rc = oom(err);
-			goto done;
-		}
-		prefix = b.data;
-	}
-	bc_db__bind_text(st, ":rank", rank_names[r->opts.rank]);
-	bc_db__bind_text(st, ":grp", o->group);
-	bc_db__bind_text(st, ":taxon", o->taxon);
-	bc_db__bind_text(st, ":taxon_prefix", prefix);
-	bc_db__bind_text(st, ":artic", artic);
-	bc_db__bind_text(st, ":pres", artic ? NULL : o->preservation);
-	sha256_init(&hash);
-	int step;
-	while ((step = sqlite3_step(st)) == SQLITE_ROW) {
-		r->sum.n_selected++;
-		if (o->has_region) {
-			if (sqlite3_column_type(st, 8) == SQLITE_NULL || sqlite3_column_type(st, 9) == SQLITE_NULL) {
-				r->sum.n_no_coordinates++;
-				continue;
-			}
-			if (!in_region(o->region, sqlite3_column_double(st, 8), sqlite3_column_double(st, 9))) {
-				r->sum.n_outside_region++;
-				continue;
-			}
-		}
-		int64_t pk = sqlite3_column_int64(st, 0);
-		double v[4];
-		uint64_t bits[4];
-		int isnull[4];
-		for (int c = 0; c < 4; c++) {
-			isnull[c] = sqlite3_column_type(st, c + 1) == SQLITE_NULL;
-			v[c] = isnull[c] ? NAN : sqlite3_column_double(st, c + 1);
-			bits[c] = 0x7ff8000000000000ULL;
-			if (!isnull[c])
-				memcpy(&bits[c], &v[c], sizeof bits[c]);
-		}
-		const char *ref = (const char *)sqlite3_column_text(st, 5);
-		int64_t loc = sqlite3_column_type(st, 6) == SQLITE_NULL ? -1 : sqlite3_column_int64(st, 6);
-		const char *art = (const char *)sqlite3_column_text(st, 7);
-		const char *name = (const char *)sqlite3_column_text(st, 10);
-		ref = ref ? ref : "";
-		art = art ? art : "";
-		name = name ? name : "";
-		put_le64(&hash, (uint64_t)pk);
-		for (int c = 0; c < 4; c++)
-			put_le64(&hash, bits[c]);
-		put_le64(&hash, (uint64_t)loc);
-		put_str(&hash, art);
-		put_str(&hash, ref);
-		put_str(&hash, name);
-		size_t nl = strlen(name);
-		while (nl && name[nl - 1] == ' ')
-			nl--;
-		while (nl && *name == ' ') {
-			name++;
-			nl--;
-		}
-		if (!nl) {
-			r->sum.n_no_name++;
-			continue;
-		}
-		if (isnull[2] && isnull[3]) {
-			r->sum.n_no_depth++;
-			continue;
-		}
-		if (r->nocc == cap) {
-			size_t nc = cap ? 2 * cap : 1024;
-			rocc *p = bc__realloc(r->occ, nc * sizeof *p);
-			if (!p) {
-				rc = oom(err);
-				goto done;
-			}
-			r->occ = p;
-			cap = nc;
-		}
-		rocc *x = &r->occ[r->nocc];
-		memset(x, 0, sizeof *x);
-		if (!(x->name = bc__strndup(name, nl)) || !(x->ref = bc__strdup(ref))) {
-			free(x->name);
-			rc = oom(err);
-			goto done;
-		}
-		r->nocc++;
-		x->pk = pk;
-		x->loc = loc;
-		x->older = v[0];
-		x->younger = v[1];
-		x->mid = (v[0] + v[1]) / 2;
-		double dmin = isnull[2] ? v[3] : v[2], dmax = isnull[3] ? v[2] : v[3];
-		x->z2 = bc_shift__zone(dmin, dmax, o->zones, 1);
-		x->zk = bc_shift__zone(dmin, dmax, o->zones, o->n_zones);
-	}
-	if (step != SQLITE_DONE) {
-		rc = bc_db__error(db, err, "reading occurrences");
-		goto done;
-	}
-	uint8_t d[SHA256_DIGEST_SIZE];
-	sha256_digest(&hash, sizeof d, d);
-	for (int i = 0; i < SHA256_DIGEST_SIZE; i++)
-		snprintf(r->sum.data_sha256 + 2 * i, 3, "%02x", d[i]);
-done:
-	sqlite3_finalize(st);
-	free(prefix);
+	bc_shift__selected sel;
+	int rc = bc_shift__select(db, &r->opts.sel, rank_names[r->opts.rank], load_row, r, &sel, err);
+	r->sum.n_selected = sel.n_selected;
+	r->sum.n_no_coordinates = sel.n_no_coordinates;
+	r->sum.n_outside_region = sel.n_outside_region;
+	memcpy(r->sum.data_sha256, sel.data_sha256, sizeof r->sum.data_sha256);
 	return rc;
-}
-
-static int read_vocabs(bc_ranges *r, bc_db *db, bc_err *err)
-{
-	sqlite3_stmt *st = NULL;
-	bc_buf b = {0};
-	int rc = bc_db__prepare(db, &st, SQL_VOCABS, err), step = SQLITE_DONE;
-	if (rc)
-		return rc;
-	while (rc == BC_OK && (step = sqlite3_step(st)) == SQLITE_ROW)
-		rc = bc__buf_printf(&b, "%s%s %s sha256:%s", b.len ? "; " : "", (const char *)sqlite3_column_text(st, 0),
-			(const char *)sqlite3_column_text(st, 1), (const char *)sqlite3_column_text(st, 2)) ? oom(err) : BC_OK;
-	if (rc == BC_OK && step != SQLITE_DONE)
-		rc = bc_db__error(db, err, "reading the vocabularies");
-	sqlite3_finalize(st);
-	if (rc == BC_OK && !b.len && bc__buf_puts(&b, "none recorded in the database"))
-		rc = oom(err);
-	if (rc) {
-		bc__buf_free(&b);
-		return rc;
-	}
-	r->vocabs = b.data;
-	return BC_OK;
 }
 
 /* ------------------------------------------------------------------ */
@@ -441,8 +307,17 @@ static int zone_fill(bc_ranges *r, bc_range_zone *z, const rocc *const *v, size_
 	z->ci_extension = bc_ranges__extension(z->n_horizons, r->opts.sel.level);
 	if (isfinite(z->ci_extension)) {
 		double range = s->mids[n - 1] - s->mids[0];
+		double base = bc_ranges__first_cap(r->chart, s->mids[n - 1]);
 		z->first_ci_ma = s->mids[n - 1] + z->ci_extension * range;
-		z->last_ci_ma = fmax(0.0, s->mids[0] - z->ci_extension * range);
+		z->last_ci_ma = s->mids[0] - z->ci_extension * range;
+		if (z->first_ci_ma > base) {
+			z->first_ci_ma = base;
+			z->ci_capped |= BC_RANGE_CAPPED_FIRST;
+		}
+		if (z->last_ci_ma < 0) {
+			z->last_ci_ma = 0;
+			z->ci_capped |= BC_RANGE_CAPPED_LAST;
+		}
 	}
 	if (span_name(r, maxo, maxy, &z->first_interval) || span_name(r, mino, miny, &z->last_interval))
 		return -1;
@@ -495,13 +370,14 @@ static int per_taxon(bc_ranges *r, bc_err *err)
 	for (size_t i = 0; i < r->nocc; i++)
 		r->ntaxa += i == 0 || strcmp(r->occ[i].name, r->occ[i - 1].name) != 0;
 	r->taxa = bc__calloc(r->ntaxa, sizeof *r->taxa);
+	r->tfirst = bc__calloc(r->ntaxa + 1, sizeof *r->tfirst);
 	r->zones = nz ? bc__calloc(r->ntaxa * nz, sizeof *r->zones) : NULL;
 	s.refs = bc__calloc(r->nocc, sizeof *s.refs);
 	s.locs = bc__calloc(r->nocc, sizeof *s.locs);
 	s.mids = bc__calloc(r->nocc, sizeof *s.mids);
 	v = bc__calloc(r->nocc, sizeof *v);
 	w = bc__calloc(r->nocc, sizeof *w);
-	if (!r->taxa || (nz && !r->zones) || !s.refs || !s.locs || !s.mids || !v || !w) {
+	if (!r->taxa || !r->tfirst || (nz && !r->zones) || !s.refs || !s.locs || !s.mids || !v || !w) {
 		rc = oom(err);
 		goto done;
 	}
@@ -513,6 +389,10 @@ static int per_taxon(bc_ranges *r, bc_err *err)
 		bc_range_taxon *x = &r->taxa[t];
 		x->taxon = r->occ[i].name;
 		x->n = j - i;
+		r->tfirst[t] = i;
+		r->tfirst[t + 1] = j;
+		x->has_draws = 0;
+		x->draws_both = x->p_ends_before = x->p_overlaps = x->p_outlasts = NAN;
 		for (size_t k = i; k < j; k++) {
 			v[k - i] = &r->occ[k];
 			x->n_straddle += r->occ[k].z2 < 0;
@@ -551,6 +431,94 @@ done:
 }
 
 /* ------------------------------------------------------------------ */
+/* Resampling draws                                                     */
+/* ------------------------------------------------------------------ */
+
+/* Per thread, per taxon: draws ending before, overlapping, outlasting, and
+ * draws with both zones (the denominator). Integer sums do not depend on
+ * which thread ran a draw, so the shares are the same for any --threads. */
+enum { DRAW_ENDS_BEFORE = 0, DRAW_OVERLAPS = 1, DRAW_OUTLASTS = 2, DRAW_BOTH = 3, DRAW_SLOTS = 4 };
+
+typedef struct range_draws {
+	const bc_ranges *r;
+	uint32_t *cnt;              /* threads x ntaxa x DRAW_SLOTS */
+} range_draws;
+
+/* One draw (doc/ranges.md, "Resampling draws"): each occurrence, in table
+ * order, first gets a depth when it straddles the first boundary, then an
+ * age within its range, from the draw's own stream, both as shift's draws
+ * make them (bc_resample__depth, bc_resample__age); then per taxon the
+ * last shallow age s against the first (f) and last (l) deep ages. */
+static void range_draw(void *ctx, int thread, size_t d)
+{
+	const range_draws *x = ctx;
+	const bc_ranges *r = x->r;
+	const bc_shift_options *o = &r->opts.sel;
+	uint32_t *cnt = &x->cnt[(size_t)thread * r->ntaxa * DRAW_SLOTS];
+	int age = (o->resample & BC_RESAMPLE_AGE) != 0, depth = (o->resample & BC_RESAMPLE_DEPTH) != 0;
+	bc_rng g;
+	bc_resample__rng_init(&g, o->seed, BC_RESAMPLE__STREAM_RANGES, d);
+	for (size_t t = 0; t < r->ntaxa; t++) {
+		double s = INFINITY, f = -INFINITY, l = INFINITY;
+		for (size_t i = r->tfirst[t]; i < r->tfirst[t + 1]; i++) {
+			const rocc *q = &r->occ[i];
+			int z = q->z2;
+			if (z < 0) {
+				if (!depth)
+					continue; /* straddling, in no zone */
+				double dd = bc_resample__depth(&g, q->dmin, q->dmax - q->dmin);
+				z = bc_shift__zone(dd, dd, o->zones, 1);
+			}
+			double a = age && q->older > q->younger ? bc_resample__age(&g, q->older, q->older - q->younger) : q->mid;
+			if (z == 0) {
+				s = fmin(s, a);
+			} else {
+				f = fmax(f, a);
+				l = fmin(l, a);
+			}
+		}
+		if (!isfinite(s) || !isfinite(f))
+			continue;
+		uint32_t *c = &cnt[t * DRAW_SLOTS];
+		c[DRAW_BOTH]++;
+		c[s > f ? DRAW_ENDS_BEFORE : s < l ? DRAW_OUTLASTS : DRAW_OVERLAPS]++;
+	}
+}
+
+static int run_draws(bc_ranges *r, bc_err *err)
+{
+	const bc_shift_options *o = &r->opts.sel;
+	int nt = bc_resample__thread_count(o->threads, o->draws);
+	range_draws x = {r, bc__calloc((size_t)nt * r->ntaxa * DRAW_SLOTS + 1, sizeof *x.cnt)};
+	if (!x.cnt)
+		return oom(err);
+	bc_resample__parallel(nt, o->draws, range_draw, &x);
+	for (size_t t = 0; t < r->ntaxa; t++) {
+		uint64_t c[DRAW_SLOTS] = {0};
+		for (int k = 0; k < nt; k++)
+			for (int j = 0; j < DRAW_SLOTS; j++)
+				c[j] += x.cnt[((size_t)k * r->ntaxa + t) * DRAW_SLOTS + (size_t)j];
+		bc_range_taxon *y = &r->taxa[t];
+		y->has_draws = 1;
+		y->draws_both = (double)c[DRAW_BOTH] / (double)o->draws;
+		if (c[DRAW_BOTH]) {
+			y->p_ends_before = (double)c[DRAW_ENDS_BEFORE] / (double)c[DRAW_BOTH];
+			y->p_overlaps = (double)c[DRAW_OVERLAPS] / (double)c[DRAW_BOTH];
+			y->p_outlasts = (double)c[DRAW_OUTLASTS] / (double)c[DRAW_BOTH];
+		}
+	}
+	r->sum.n_draws = o->draws;
+	for (size_t i = 0; i < r->nocc; i++) {
+		const rocc *q = &r->occ[i];
+		int drawn_depth = q->z2 < 0 && (o->resample & BC_RESAMPLE_DEPTH);
+		r->sum.n_depth_drawn += (size_t)drawn_depth;
+		r->sum.n_age_drawn += (size_t)((q->z2 >= 0 || drawn_depth) && (o->resample & BC_RESAMPLE_AGE) && q->older > q->younger);
+	}
+	free(x.cnt);
+	return BC_OK;
+}
+
+/* ------------------------------------------------------------------ */
 /* Compute                                                              */
 /* ------------------------------------------------------------------ */
 
@@ -573,6 +541,7 @@ void bc_ranges_free(bc_ranges *r)
 	}
 	free(r->occ);
 	free(r->taxa);
+	free(r->tfirst);
 	free(r->zones);
 	for (size_t i = 0; i < r->nstrs; i++)
 		free(r->strs[i]);
@@ -580,31 +549,9 @@ void bc_ranges_free(bc_ranges *r)
 	free(r);
 }
 
-static int dup_opt(char **dst, const char **field)
-{
-	if (!*field)
-		return 0;
-	if (!(*dst = bc__strdup(*field)))
-		return -1;
-	*field = *dst;
-	return 0;
-}
-
-static void excluded_words(const bc_ranges_summary *u, bc_buf *b)
-{
-	const struct { size_t n; const char *why; } ex[] = {
-		{u->n_no_coordinates, "no coordinates (--region)"}, {u->n_outside_region, "outside the region"},
-		{u->n_no_name, "no name at the rank"}, {u->n_no_depth, "no palaeodepth"},
-	};
-	for (size_t i = 0; i < sizeof ex / sizeof ex[0]; i++)
-		if (ex[i].n)
-			bc__buf_printf(b, "%s%zu %s", b->len ? ", " : "", ex[i].n, ex[i].why);
-}
-
 int bc_ranges_compute(bc_ranges **out, bc_db *db, const bc_ranges_options *opts, bc_err *err)
 {
 	*out = NULL;
-	bc_buf words = {0};
 	int rc = BC_OK;
 	const bc_shift_options *o = &opts->sel;
 	if (!o->n_zones || o->n_zones > BC_SHIFT_MAX_ZONES)
@@ -613,13 +560,21 @@ int bc_ranges_compute(bc_ranges **out, bc_db *db, const bc_ranges_options *opts,
 		return bc_err_set(err, BC_EUSAGE, "--level: %g is not between 0 and 1", o->level);
 	if ((unsigned)opts->rank > BC_RANGES_SPECIES)
 		return bc_err_set(err, BC_EUSAGE, "ranges: unknown rank %d", (int)opts->rank);
+	int rc0 = bc_resample__check(o, err);
+	if (rc0)
+		return rc0;
+	if (o->bootstrap || o->weight_references || o->background || o->quota || o->taphonomy)
+		return bc_err_set(err, BC_EUSAGE, "--%s: a shift table option; ranges take --draws, --seed, --threads and --resample only",
+			o->bootstrap ? "bootstrap" : o->weight_references ? "weight-references" : o->background ? "background" : o->quota ? "quota" : "taphonomy");
+	if (o->draws && !o->resample)
+		return bc_err_set(err, BC_EUSAGE, "--resample none: ranges draw ages and depths only, so there would be nothing to draw");
 	bc_ranges *r = bc__calloc(1, sizeof *r);
 	if (!r)
 		return oom(err);
 	r->opts = *opts;
 	bc_shift_options *so = &r->opts.sel;
-	if (dup_opt(&r->group, &so->group) || dup_opt(&r->taxon, &so->taxon) || dup_opt(&r->preservation, &so->preservation) ||
-	    dup_opt(&r->timescale, &so->timescale) || !(r->db_path = bc__strdup(bc_db_path(db)))) {
+	if (bc_shift__dup_opt(&r->group, &so->group) || bc_shift__dup_opt(&r->taxon, &so->taxon) ||
+	    bc_shift__dup_opt(&r->preservation, &so->preservation) || bc_shift__dup_opt(&r->timescale, &so->timescale) || !(r->db_path = bc__strdup(bc_db_path(db)))) {
 		rc = oom(err);
 		goto done;
 	}
@@ -634,24 +589,18 @@ int bc_ranges_compute(bc_ranges **out, bc_db *db, const bc_ranges_options *opts,
 		rc = oom(err);
 		goto done;
 	}
-	if ((rc = read_vocabs(r, db, err)) || (rc = load(r, db, err)))
+	if ((rc = bc_shift__vocabs(&r->vocabs, db, err)) || (rc = load(r, db, err)))
 		goto done;
-	bc_plot__selection_words(&words, so);
-	if (r->sum.n_selected == 0) {
-		rc = bc_err_set(err, BC_EINVALID, "%s: no occurrences match the selection (%s)", r->db_path, words.data ? words.data : "");
-		goto done;
-	}
-	if (r->nocc == 0) {
-		bc_buf ex = {0};
-		excluded_words(&r->sum, &ex);
-		rc = bc_err_set(err, BC_EINVALID, "%s: %zu occurrences match the selection (%s), but none is left to compare: %s",
-			r->db_path, r->sum.n_selected, words.data ? words.data : "", ex.data ? ex.data : "");
-		bc__buf_free(&ex);
-		goto done;
-	}
-	rc = per_taxon(r, err);
+	const bc_shift__excluded ex[] = {
+		{r->sum.n_no_coordinates, "no coordinates (--region)"}, {r->sum.n_outside_region, "outside the region"},
+		{r->sum.n_no_name, "no name at the rank"}, {r->sum.n_no_depth, "no palaeodepth"},
+	};
+	rc = bc_shift__nothing_left(err, r->db_path, so, r->sum.n_selected, r->nocc, ex, sizeof ex / sizeof ex[0], "compare");
+	if (rc == BC_OK)
+		rc = per_taxon(r, err);
+	if (rc == BC_OK && so->draws)
+		rc = run_draws(r, err);
 done:
-	bc__buf_free(&words);
 	if (rc) {
 		bc_ranges_free(r);
 		return rc;
@@ -693,19 +642,23 @@ static const struct { const char *suffix; bc_col_type type; int digits; } zone_c
 	{"horizons", BC_COL_COUNT, 0}, {"first_older_ma", BC_COL_REAL, -1}, {"first_younger_ma", BC_COL_REAL, -1},
 	{"first_interval", BC_COL_TEXT, 0}, {"last_older_ma", BC_COL_REAL, -1}, {"last_younger_ma", BC_COL_REAL, -1},
 	{"last_interval", BC_COL_TEXT, 0}, {"first_ci_ma", BC_COL_REAL, 2}, {"last_ci_ma", BC_COL_REAL, 2},
+	{"ci_capped", BC_COL_TEXT, 0},
 };
+enum { ZCOL_FIRST_INTERVAL = 6, ZCOL_LAST_INTERVAL = 9, ZCOL_CAPPED = 12 };
 #define N_ZONE_COLS (sizeof zone_cols / sizeof zone_cols[0])
 
 static int put_zone(bc_table *t, size_t col, const bc_range_zone *z, bc_err *err)
 {
 	const double num[] = {(double)z->n, (double)z->n_references, (double)z->n_localities, (double)z->n_horizons,
-		z->first_older_ma, z->first_younger_ma, NAN, z->last_older_ma, z->last_younger_ma, NAN, z->first_ci_ma, z->last_ci_ma};
+		z->first_older_ma, z->first_younger_ma, NAN, z->last_older_ma, z->last_younger_ma, NAN, z->first_ci_ma, z->last_ci_ma, NAN};
+	static const char *const capped[] = {"no", "first", "last", "first|last"};
 	for (size_t c = 0; c < N_ZONE_COLS; c++) {
 		if (zone_cols[c].type != BC_COL_TEXT) {
 			bc_output__set_num(t, col + c, num[c]);
 			continue;
 		}
-		const char *s = c == 6 ? z->first_interval : z->last_interval;
+		const char *s = c == ZCOL_FIRST_INTERVAL ? z->first_interval : c == ZCOL_LAST_INTERVAL ? z->last_interval
+			      : isfinite(z->ci_extension) ? capped[z->ci_capped & 3] : NULL;
 		if (z->n && s && *s) {
 			int rc = bc_output__set_text(t, col + c, s, err);
 			if (rc)
@@ -733,6 +686,7 @@ static void describe_options(const bc_ranges *r, bc_buf *b)
 	for (size_t i = 0; i < o->n_zones; i++)
 		bc__buf_printf(b, "%s%g", i ? "," : "", o->zones[i]);
 	bc__buf_printf(b, " --level %g", o->level);
+	bc_resample__describe_options(o, b);
 }
 
 static int build_table(const bc_ranges *r, bc_table **out, bc_err *err)
@@ -760,6 +714,10 @@ static int build_table(const bc_ranges *r, bc_table **out, bc_err *err)
 				snprintf(name, sizeof name, "zone%zu_%s", g - 1, zone_cols[c].suffix);
 			rc = bc_output__add_column(t, name, zone_cols[c].type, zone_cols[c].digits, err);
 		}
+	static const char *const draw_cols[] = {"p_ends_before", "p_overlaps", "p_outlasts", "draws_both_zones"};
+	size_t col_draws = nhead + (2 + nz) * N_ZONE_COLS;
+	for (size_t c = 0; rc == BC_OK && r->sum.n_draws && c < 4; c++)
+		rc = bc_output__add_column(t, draw_cols[c], BC_COL_REAL, 3, err);
 	for (size_t i = 0; rc == BC_OK && i < r->ntaxa; i++) {
 		const bc_range_taxon *x = &r->taxa[i];
 		char rel[64];
@@ -781,6 +739,11 @@ static int build_table(const bc_ranges *r, bc_table **out, bc_err *err)
 			rc = put_zone(t, nhead + N_ZONE_COLS, &x->deep, err);
 		for (size_t z = 0; rc == BC_OK && z < nz; z++)
 			rc = put_zone(t, nhead + (2 + z) * N_ZONE_COLS, &x->zones[z], err);
+		if (rc == BC_OK && x->has_draws) {
+			const double p[] = {x->p_ends_before, x->p_overlaps, x->p_outlasts, x->draws_both};
+			for (size_t c = 0; c < 4; c++)
+				bc_output__set_num(t, col_draws + c, p[c]);
+		}
 	}
 	if (rc == BC_OK) {
 		bc__buf_printf(&b, "Depth ranges per %s: ", r->opts.rank == BC_RANGES_SPECIES ? "scientific name" : rank_names[r->opts.rank]);
@@ -805,14 +768,7 @@ static int build_table(const bc_ranges *r, bc_table **out, bc_err *err)
 	for (size_t i = 0; rc == BC_OK && i < sizeof counts / sizeof counts[0]; i++)
 		rc = bc_output__meta_num(t, T, counts[i].key, (double)counts[i].v, 0, err);
 	if (rc == BC_OK)
-		rc = bc_output__meta_text(t, S, "tool", err, "bathychron %s", BC_VERSION);
-	if (rc == BC_OK)
-		rc = bc_output__meta_text(t, S, "database", err, "%s", r->db_path);
-	if (rc == BC_OK)
-		rc = bc_output__meta_text(t, S, "chart", err, "%s%s%s%s", r->chart_name, *r->chart_source ? " (" : "", r->chart_source,
-			*r->chart_source ? ")" : "");
-	if (rc == BC_OK)
-		rc = bc_output__meta_text(t, S, "vocabularies", err, "%s", r->vocabs);
+		rc = bc_shift__stamp_source(t, r->db_path, r->chart_name, r->chart_source, r->vocabs, err);
 	describe_options(r, &b);
 	if (rc == BC_OK)
 		rc = bc_output__meta_text(t, S, "options", err, "%s", b.data ? b.data + 1 : "");
@@ -831,8 +787,7 @@ static int build_table(const bc_ranges *r, bc_table **out, bc_err *err)
 			o->zones_given ? "; zoneK columns use every boundary, shallow_/deep_ columns and the relation the first" : "");
 	bc__buf_free(&b);
 	if (rc == BC_OK)
-		rc = bc_output__meta_text(t, S, "zone_rule", err, "at a boundary S a depth range [min, max] is shallow when max <= S and min < S, deep when min >= S, "
-			"otherwise straddling (in no zone); a single depth d is [d, d]; one missing end is taken as equal to the other");
+		rc = bc_shift__stamp_zone_rule(t, "in no zone", err);
 	if (rc == BC_OK)
 		rc = bc_output__meta_text(t, S, "range_ends", err, "first_older_ma/first_younger_ma: the largest older and younger bounds in the zone, so the first occurrence "
 			"lies between them; last_older_ma/last_younger_ma: the smallest, so the last occurrence lies between them; intervals: the finest chart interval "
@@ -846,27 +801,38 @@ static int build_table(const bc_ranges *r, bc_table **out, bc_err *err)
 			"r = (1 - C)^(-1/(H-1)) - 1 at C = %g; last_ci_ma = youngest midpoint - r R (not below 0), first_ci_ma = oldest midpoint + r R; "
 			"none for H < 2. Assumes horizons scattered at random (uniformly) through the true range", o->level);
 	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "ci_capped", err, "first: first_ci_ma reached beyond the older bound of the chart's eon holding the oldest horizon "
+			"(or beyond the chart) and is held there; last: last_ci_ma reached beyond the present and is held at 0 Ma; "
+			"a held limit says only that the data do not bound that end (few horizons: H = 2 gives r = 19 at C = 0.95)");
+	if (rc == BC_OK)
 		rc = bc_output__meta_text(t, S, "retreat_supported", err, "yes when the shallow range certainly ends no later than the deep one (no outlasts) and last_ci_ma "
 			"of the shallow zone is still no younger than the deep zone's last_older_ma; no when it ends first but the limit reaches the deep range's end, "
 			"or there is one shallow horizon only; NA otherwise");
 	if (rc == BC_OK)
-		rc = bc_output__meta_num(t, S, "level", o->level, 0, err);
-	if (rc == BC_OK)
-		rc = bc_output__meta_text(t, S, "data_sha256", err, "%s", u->data_sha256);
-	if (rc == BC_OK)
-		rc = bc_output__meta_num(t, S, "selected", (double)u->n_selected, 0, err);
-	if (rc == BC_OK && o->has_region)
-		rc = bc_output__meta_num(t, S, "excluded_no_coordinates", (double)u->n_no_coordinates, 0, err);
-	if (rc == BC_OK && o->has_region)
-		rc = bc_output__meta_num(t, S, "excluded_outside_region", (double)u->n_outside_region, 0, err);
+		rc = bc_shift__stamp_data(t, o, u->data_sha256, u->n_selected, u->n_no_coordinates, u->n_outside_region, err);
 	if (rc == BC_OK)
 		rc = bc_output__meta_num(t, S, "excluded_no_name_at_rank", (double)u->n_no_name, 0, err);
 	if (rc == BC_OK)
 		rc = bc_output__meta_num(t, S, "excluded_no_palaeodepth", (double)u->n_no_depth, 0, err);
 	if (rc == BC_OK)
 		rc = bc_output__meta_num(t, S, "used", (double)u->n_used, 0, err);
-	if (rc == BC_OK)
-		rc = bc_output__meta_text(t, S, "draws", err, "none: age-uncertainty resampling is not available for ranges in this build");
+	if (rc == BC_OK && !u->n_draws)
+		rc = bc_output__meta_text(t, S, "draws", err, "none (--draws N estimates how often each relation occurs under age and depth uncertainty)");
+	if (rc == BC_OK && u->n_draws)
+		rc = bc_output__meta_text(t, S, "draws", err, "%zu draws, seed %llu; in each, %s%s%s; random numbers: " RANGES_RNG_WORDS,
+			u->n_draws, (unsigned long long)o->seed,
+			o->resample & BC_RESAMPLE_AGE ? "every age range wider than a point gives an age drawn uniformly within it (as shift --draws)" : "every occurrence sits at its midpoint age",
+			o->resample & BC_RESAMPLE_DEPTH ? "; every depth range straddling the first boundary gives a depth drawn uniformly within it, and so a zone" : "; straddling occurrences stay in no zone",
+			"");
+	if (rc == BC_OK && u->n_draws)
+		rc = bc_output__meta_num(t, S, "draws_ages_drawn", (double)u->n_age_drawn, 0, err);
+	if (rc == BC_OK && u->n_draws)
+		rc = bc_output__meta_num(t, S, "draws_depths_drawn", (double)u->n_depth_drawn, 0, err);
+	if (rc == BC_OK && u->n_draws)
+		rc = bc_output__meta_text(t, S, "draws_relation", err, "per draw, s = the youngest drawn shallow age, f and l = the oldest and youngest drawn deep ages: "
+			"ends_before s > f, outlasts s < l, overlaps otherwise; p_ends_before, p_overlaps, p_outlasts = their shares among the draws in which the taxon "
+			"had shallow and deep occurrences (draws_both_zones = the share of all draws with both); the age ranges and depths are drawn independently "
+			"for each occurrence, so occurrences from one bed are not kept together");
 	if (rc == BC_OK)
 		rc = bc_output__meta_text(t, S, "caution", err, "%s", CAUTION);
 	if (rc) {
@@ -884,6 +850,89 @@ int bc_ranges_write(const bc_ranges *r, FILE *f, bc_format format, bc_err *err)
 	if (rc == BC_OK)
 		rc = bc_output__write(t, f, format, err);
 	bc_output__table_free(t);
+	return rc;
+}
+
+/* The references of the methods paragraph, alphabetical. Details not
+ * checked against the publications are marked (doc/ranges.md). */
+static const char REF_BLACKMAN[] =
+	"Blackman D, Vigna S (2021) Scrambled linear pseudorandom number generators. ACM Transactions on Mathematical Software 47(4):36 "
+	"[volume and article number from memory].\n";
+static const char REF_STEELE[] =
+	"Steele GL, Lea D, Flood CH (2014) Fast splittable pseudorandom number generators. OOPSLA 2014 [from memory].\n";
+static const char REFERENCES[] =
+	"Cohen KM, Finney SC, Gibbard PL, Fan J-X (2013; updated) The ICS International Chronostratigraphic Chart. Episodes 36(3):199-204 "
+	"[volume and pages from memory].\n"
+	"Marshall CR (1990) Confidence intervals on stratigraphic ranges. Paleobiology 16(1):1-10 [volume and pages from memory].\n";
+static const char REF_STRAUSS[] =
+	"Strauss D, Sadler PM (1989) Classical confidence intervals and Bayesian probability estimates for ends of local taxon ranges. "
+	"Mathematical Geology 21(4):411-427 [from memory].\n";
+
+int bc_ranges_write_methods(const bc_ranges *r, FILE *f, bc_err *err)
+{
+	const bc_shift_options *o = &r->opts.sel;
+	const bc_ranges_summary *u = &r->sum;
+	bc_buf b = {0}, w = {0};
+	int bad = 0;
+	bad |= bc_plot__selection_words(&w, o);
+	bad |= bc__buf_printf(&b, "Occurrences were selected from a bathychron %s database (%s; data SHA-256 in the table's stamp); %zu matched",
+		BC_VERSION, w.data ? w.data : "", u->n_selected);
+	bc__buf_free(&w);
+	const bc_shift__excluded ex[] = {
+		{u->n_no_coordinates, "had no coordinates (--region)"}, {u->n_outside_region, "lay outside the region"},
+		{u->n_no_name, "had no name at the rank"}, {u->n_no_depth, "had no palaeodepth"},
+	};
+	bc_shift__excluded_words(&w, ex, sizeof ex / sizeof ex[0]);
+	if (w.len)
+		bad |= bc__buf_printf(&b, ", of which were left out: %s", w.data);
+	bc__buf_free(&w);
+	bad |= bc__buf_printf(&b, "; %zu occurrences of %zu taxa (%s) were used. ", u->n_used, u->n_taxa,
+		r->opts.rank == BC_RANGES_GENUS ? "genera: the genus column, else the first word of the scientific name"
+		: r->opts.rank == BC_RANGES_SPECIES ? "scientific names as stored" : r->opts.rank == BC_RANGES_FAMILY ? "families" : "orders");
+	bad |= bc__buf_printf(&b, "An occurrence was classed as shallow when its palaeodepth range lay above %g m (maximum <= %g m and minimum < %g m), "
+		"deep when it lay at or below %g m, and straddling otherwise (in neither range). ", o->zones[0], o->zones[0], o->zones[0], o->zones[0]);
+	bad |= bc__buf_printf(&b, "For each taxon and zone, the first and last occurrences are given as the age bounds within which they must lie "
+		"(the largest and the smallest older and younger bounds among the zone's occurrences), named by the finest interval of the "
+		"International Chronostratigraphic Chart (release %s; Cohen et al. 2013, updated); how the last shallow occurrence stands to the deep range "
+		"(before it begins, within it, or after it ends) is reported with every possibility those bounds allow. ", r->chart_name);
+	bad |= bc__buf_printf(&b, "Confidence limits at %g%% on each range end follow the classical method of Strauss & Sadler (1989) and Marshall (1990): "
+		"with H horizons (distinct occurrence midpoints) spanning an observed range R, the end lies within rR beyond the outermost horizon, "
+		"r = (1 - C)^(-1/(H-1)) - 1, assuming horizons scattered at random through the true range; no limit was computed for fewer than two horizons. "
+		"A limit on the first occurrence reaching beyond the older bound of the chart's eon holding the oldest horizon was held at that bound, and one on "
+		"the last occurrence reaching beyond the present at 0 Ma (marked ci_capped): such a limit says only that the data do not bound that end. ",
+		100 * o->level);
+	bad |= bc__buf_printf(&b, "Of the %zu taxa, %zu occurred in both zones: the shallow range certainly ended before the deep one began in %zu, "
+		"within it in %zu, after it in %zu, and the age bounds allowed more than one of these in %zu; "
+		"an end of the shallow range before the deep one's survived the confidence limit in %zu. ",
+		u->n_taxa, u->n_both, u->n_ends_before, u->n_overlaps, u->n_outlasts, u->n_unresolved, u->n_retreat_supported);
+	if (u->n_draws) {
+		int age = (o->resample & BC_RESAMPLE_AGE) != 0, depth = (o->resample & BC_RESAMPLE_DEPTH) != 0;
+		bad |= bc__buf_printf(&b, "How often each relation holds under age%s uncertainty was estimated from %zu draws (seed %llu; xoshiro256**, "
+			"Blackman & Vigna 2021, one generator per draw seeded by splitmix64, Steele et al. 2014) in which ",
+			depth ? " and depth" : "", u->n_draws, (unsigned long long)o->seed);
+		if (age)
+			bad |= bc__buf_printf(&b, "each occurrence's age was drawn uniformly within its age range (%zu of them wider than a point)", u->n_age_drawn);
+		else
+			bad |= bc__buf_puts(&b, "each occurrence was placed at its midpoint age");
+		if (depth)
+			bad |= bc__buf_printf(&b, " and each depth range straddling %g m gave a depth drawn uniformly within it (%zu straddling)",
+				o->zones[0], u->n_depth_drawn);
+		bad |= bc__buf_puts(&b, "; per taxon, the share of draws with both shallow and deep occurrences in which the youngest shallow age was older "
+			"than the oldest deep age, lay within the deep range, or was younger than the youngest deep age is reported. ");
+	}
+	bad |= bc__buf_puts(&b, CAUTION "\n\nReferences\n\n");
+	if (u->n_draws)
+		bad |= bc__buf_puts(&b, REF_BLACKMAN);
+	bad |= bc__buf_puts(&b, REFERENCES);
+	if (u->n_draws)
+		bad |= bc__buf_puts(&b, REF_STEELE);
+	bad |= bc__buf_puts(&b, REF_STRAUSS);
+	int rc = BC_OK;
+	if (bad || !b.data)
+		rc = oom(err);
+	else if (fwrite(b.data, 1, b.len, f) != b.len)
+		rc = bc_err_set(err, BC_EIO, "writing the methods paragraph failed");
+	bc__buf_free(&b);
 	return rc;
 }
 

@@ -24,4 +24,12 @@ double bc_ranges__extension(size_t h, double level);
  */
 unsigned bc_ranges__relation(double s_young, double s_old, double f_young, double f_old, double l_young, double l_old);
 
+/**
+ * How far back a first-occurrence limit may reach from the oldest horizon
+ * at age `t` (Ma): the older bound of the chart's eon holding `t` (an older
+ * bound belongs to the interval below it), else the oldest bound of the
+ * chart; +infinity when `t` lies beyond the chart or there is no chart.
+ */
+double bc_ranges__first_cap(const bc_chart *c, double t);
+
 #endif

@@ -24,7 +24,7 @@
 #define MAX_THREADS 64
 #define MAX_DRAWS 1000000u
 
-enum { STREAM_DRAWS = 1, STREAM_REFS = 2, STREAM_QUOTA = 3 };
+enum { STREAM_DRAWS = BC_RESAMPLE__STREAM_DRAWS, STREAM_REFS = BC_RESAMPLE__STREAM_REFS, STREAM_QUOTA = BC_RESAMPLE__STREAM_QUOTA };
 
 /* struct bc_resample is in resample.h (resample_out.c writes it out). */
 
@@ -51,26 +51,8 @@ void bc_resample__rng_init(bc_rng *r, uint64_t seed, uint64_t stream, uint64_t i
 	bc_rng__seed(r, key); /* four splitmix64 outputs from the key */
 }
 
-static uint64_t rotl(uint64_t x, int k) { return (x << k) | (x >> (64 - k)); }
-
-/* xoshiro256**'s step, as bc_rng__next in encounter.c, inlined here
- * because the draw loop calls it for every occurrence; the unit test
- * resample_stream_seeding_pinned checks that the two give the same stream. */
-static inline uint64_t rng_next(bc_rng *r)
-{
-	uint64_t *s = r->s;
-	uint64_t out = rotl(s[1] * 5, 7) * 9;
-	uint64_t t = s[1] << 17;
-	s[2] ^= s[0];
-	s[3] ^= s[1];
-	s[1] ^= s[2];
-	s[0] ^= s[3];
-	s[2] ^= t;
-	s[3] = rotl(s[3], 45);
-	return out;
-}
-
-static inline double rng_uniform(bc_rng *r) { return (double)(rng_next(r) >> 11) * 0x1.0p-53; }
+#define rng_next bc_resample__next
+#define rng_uniform bc_resample__uniform
 
 /* Uniform on 0 .. n-1 for n <= 2^32 by Lemire's (2019) multiply-and-reject
  * method: exact, and a division only in the rare rejection branch. */
@@ -87,9 +69,6 @@ static inline uint32_t rng_below32(bc_rng *r, uint32_t n)
 	}
 	return (uint32_t)(m >> 32);
 }
-
-uint64_t bc_resample__next(bc_rng *r) { return rng_next(r); }
-double bc_resample__uniform(bc_rng *r) { return rng_uniform(r); }
 
 uint64_t bc_resample__below(bc_rng *r, uint64_t n)
 {
@@ -164,9 +143,6 @@ typedef struct engine {
  * allocated before any thread starts so workers never allocate. */
 typedef struct worker {
 	engine *e;
-	size_t first, step;
-	pthread_t tid;
-	int started;
 	uint32_t *cnt, *mult;
 	double *sv, *nv, *xv;
 	size_t *idx;
@@ -176,7 +152,7 @@ static inline void count_item(const engine *e, const item *it, size_t b, bc_rng 
 {
 	int z = -it->zone - 1;
 	if (it->zone >= 0) {
-		double d = e->dmin[it->zone] + rng_uniform(r) * e->dspan[it->zone];
+		double d = bc_resample__depth(r, e->dmin[it->zone], e->dspan[it->zone]);
 		z = bc_shift__zone(d, d, &e->split, 1); /* a point depth never straddles */
 	}
 	if (z == 0 || z == 1)
@@ -191,7 +167,7 @@ static inline void draw_item(const engine *e, const item *it, bc_rng *r, uint32_
 	if (it->bin >= 0) {
 		b = (size_t)it->bin;
 	} else {
-		double t = it->older - rng_uniform(r) * it->span;
+		double t = bc_resample__age(r, it->older, it->span);
 		b = bc_shift__point_bin(sp->bins, sp->nbins, t, (size_t)(-(it->bin + 1)));
 		if (b == sp->nbins)
 			return; /* fell in a gap between bins or outside them */
@@ -219,7 +195,7 @@ size_t bc_resample__run_bin(const bc_shift__bin *bins, size_t k, size_t L, doubl
 static inline void draw_run(const engine *e, const item *it, size_t L, bc_rng *r, uint32_t *cnt)
 {
 	size_t k = (size_t)(-(it->bin + 1));
-	double t = it->older - rng_uniform(r) * it->span;
+	double t = bc_resample__age(r, it->older, it->span);
 	count_item(e, it, run_bin(e->sp->bins, k, L, t), r, cnt);
 }
 
@@ -303,27 +279,78 @@ static void one_draw(const engine *e, bc_rng *r, const uint32_t *mult, uint32_t 
 			draw_item(e, &e->it[j], r, cnt);
 }
 
-static void *work(void *arg)
+static int online_processors(void);
+
+/* Draw d on the scratch of worker `thread` (bc_resample__parallel). */
+static void work(void *ctx, int thread, size_t d)
 {
-	worker *w = arg;
+	worker *w = &((worker *)ctx)[thread];
 	const engine *e = w->e;
 	const bc_draw_spec *sp = e->sp;
 	uint32_t *cnt = w->cnt, *mult = w->mult;
-	for (size_t d = w->first; d < sp->draws; d += w->step) {
-		bc_rng r;
-		bc_resample__rng_init(&r, sp->seed, STREAM_DRAWS, d);
-		if (sp->bootstrap) {
-			/* n picks with replacement, kept as multiplicities; the picked
-			 * items are then drawn in storage order (same distribution,
-			 * and memory is read in sequence rather than at random) */
-			memset(mult, 0, e->ne * sizeof *mult);
-			for (size_t i = 0; i < e->ne; i++)
-				mult[rng_below32(&r, (uint32_t)e->ne)]++;
-		}
-		one_draw(e, &r, mult, cnt);
-		draw_stats(e, d, cnt, w->sv, w->nv, w->xv, w->idx);
+	bc_rng r;
+	bc_resample__rng_init(&r, sp->seed, STREAM_DRAWS, d);
+	if (sp->bootstrap) {
+		/* n picks with replacement, kept as multiplicities; the picked
+		 * items are then drawn in storage order (same distribution,
+		 * and memory is read in sequence rather than at random) */
+		memset(mult, 0, e->ne * sizeof *mult);
+		for (size_t i = 0; i < e->ne; i++)
+			mult[rng_below32(&r, (uint32_t)e->ne)]++;
 	}
+	one_draw(e, &r, mult, cnt);
+	draw_stats(e, d, cnt, w->sv, w->nv, w->xv, w->idx);
+}
+
+/* One thread's share of bc_resample__parallel. */
+typedef struct share {
+	bc_resample__draw_fn fn;
+	void *ctx;
+	int thread, nt;
+	size_t draws;
+	pthread_t tid;
+	int started;
+} share;
+
+static void *share_run(void *arg)
+{
+	share *sh = arg;
+	for (size_t d = (size_t)sh->thread; d < sh->draws; d += (size_t)sh->nt)
+		sh->fn(sh->ctx, sh->thread, d);
 	return NULL;
+}
+
+void bc_resample__parallel(int nt, size_t draws, bc_resample__draw_fn fn, void *ctx)
+{
+	share sh[MAX_THREADS];
+	if (nt < 1)
+		nt = 1;
+	if (nt > MAX_THREADS)
+		nt = MAX_THREADS;
+	for (int t = 0; t < nt; t++)
+		sh[t] = (share){fn, ctx, t, nt, draws, 0, 0};
+	/* Thread t runs draws t, t + nt, ...; every draw writes only its own
+	 * slots, so the results do not depend on scheduling. A thread that
+	 * cannot be started has its share run here. */
+	for (int t = 1; t < nt; t++)
+		sh[t].started = pthread_create(&sh[t].tid, NULL, share_run, &sh[t]) == 0;
+	share_run(&sh[0]);
+	for (int t = 1; t < nt; t++) {
+		if (sh[t].started)
+			pthread_join(sh[t].tid, NULL);
+		else
+			share_run(&sh[t]);
+	}
+}
+
+int bc_resample__thread_count(int threads, size_t draws)
+{
+	int nt = threads > 0 ? threads : online_processors();
+	if (nt > MAX_THREADS)
+		nt = MAX_THREADS;
+	if ((size_t)nt > draws)
+		nt = draws ? (int)draws : 1;
+	return nt;
 }
 
 static void workers_free(worker *w, int nt)
@@ -443,11 +470,7 @@ int bc_resample__draws(bc_draw_result *out, const bc_draw_spec *sp, double split
 	}
 	free(tmp);
 	tmp = NULL;
-	nt = sp->threads > 0 ? sp->threads : online_processors();
-	if (nt > MAX_THREADS)
-		nt = MAX_THREADS;
-	if ((size_t)nt > nd)
-		nt = nd ? (int)nd : 1;
+	nt = bc_resample__thread_count(sp->threads, nd);
 	w = bc__calloc((size_t)nt, sizeof *w);
 	if (!w) {
 		rc = oom(err);
@@ -456,8 +479,6 @@ int bc_resample__draws(bc_draw_result *out, const bc_draw_spec *sp, double split
 	for (int t = 0; t < nt; t++) {
 		worker *x = &w[t];
 		x->e = &e;
-		x->first = (size_t)t;
-		x->step = (size_t)nt;
 		x->cnt = bc__malloc(2 * nb * sizeof *x->cnt + 1);
 		x->mult = sp->bootstrap ? bc__malloc((e.ne ? e.ne : 1) * sizeof *x->mult) : NULL;
 		x->sv = bc__malloc(nb * sizeof *x->sv + 1);
@@ -469,18 +490,7 @@ int bc_resample__draws(bc_draw_result *out, const bc_draw_spec *sp, double split
 			goto done;
 		}
 	}
-	/* Thread t runs draws t, t + nt, ...; every draw writes only its own
-	 * slots, so the results do not depend on scheduling. A thread that
-	 * cannot be started has its share run here. */
-	for (int t = 1; t < nt; t++)
-		w[t].started = pthread_create(&w[t].tid, NULL, work, &w[t]) == 0;
-	work(&w[0]);
-	for (int t = 1; t < nt; t++) {
-		if (w[t].started)
-			pthread_join(w[t].tid, NULL);
-		else
-			work(&w[t]);
-	}
+	bc_resample__parallel(nt, nd, work, w);
 	out->threads_used = nt;
 done:
 	workers_free(w, nt);

@@ -24,14 +24,66 @@
  */
 #include "encounter.h"
 
-/** Seeds `r` for draw `index` of `stream` (1 draws, 2 reference bootstrap, 3 quota). */
+/** The random streams: each has its own sequence of draws for the same seed. */
+enum {
+	BC_RESAMPLE__STREAM_DRAWS = 1,  /* shift's age/depth draws */
+	BC_RESAMPLE__STREAM_REFS = 2,   /* reference bootstrap */
+	BC_RESAMPLE__STREAM_QUOTA = 3,  /* subsampling to a quota */
+	BC_RESAMPLE__STREAM_RANGES = 4  /* ranges' age/depth draws */
+};
+
+/** Seeds `r` for draw `index` of `stream` (BC_RESAMPLE__STREAM_*). */
 void bc_resample__rng_init(bc_rng *r, uint64_t seed, uint64_t stream, uint64_t index);
-/** The next output: the same as bc_rng__next, inlined in the draw loop (tested). */
-uint64_t bc_resample__next(bc_rng *r);
+
+static inline uint64_t bc_resample__rotl(uint64_t x, int k) { return (x << k) | (x >> (64 - k)); }
+
+/** The next output: xoshiro256**'s step, the same as bc_rng__next in
+ * encounter.c, inline here because the draw loops call it for every
+ * occurrence; the unit test resample_stream_seeding_pinned checks that the
+ * two give the same stream. */
+static inline uint64_t bc_resample__next(bc_rng *r)
+{
+	uint64_t *s = r->s;
+	uint64_t out = bc_resample__rotl(s[1] * 5, 7) * 9;
+	uint64_t t = s[1] << 17;
+	s[2] ^= s[0];
+	s[3] ^= s[1];
+	s[1] ^= s[2];
+	s[0] ^= s[3];
+	s[2] ^= t;
+	s[3] = bc_resample__rotl(s[3], 45);
+	return out;
+}
+
 /** Uniform on [0, 1) with 53 random bits (as bc_rng__uniform). */
-double bc_resample__uniform(bc_rng *r);
+static inline double bc_resample__uniform(bc_rng *r) { return (double)(bc_resample__next(r) >> 11) * 0x1.0p-53; }
+
+/** A drawn age: older - u (older - younger) with u uniform on [0, 1), so
+ * never older than `older`. `span` = older - younger. shift's and ranges'
+ * draws both use it. */
+static inline double bc_resample__age(bc_rng *r, double older, double span) { return older - bc_resample__uniform(r) * span; }
+
+/** A drawn depth: dmin + u (dmax - dmin), u uniform on [0, 1). `span` = dmax - dmin. */
+static inline double bc_resample__depth(bc_rng *r, double dmin, double span) { return dmin + bc_resample__uniform(r) * span; }
+
 /** Uniform integer in 0 .. n-1 (n > 0), without modulo bias. */
 uint64_t bc_resample__below(bc_rng *r, uint64_t n);
+
+/** The number of worker threads for `draws` draws: `threads`, or one per
+ * online processor when <= 0, at most 64 and at most `draws` (at least 1). */
+int bc_resample__thread_count(int threads, size_t draws);
+
+/** One draw: `thread` (0 .. nt-1) names the caller's scratch; a draw must
+ * write only its own results or that thread's scratch. */
+typedef void (*bc_resample__draw_fn)(void *ctx, int thread, size_t draw);
+
+/**
+ * Runs draws 0 .. draws-1 on `nt` threads: thread t runs draws t, t + nt,
+ * ..., so which thread runs a draw never changes its numbers (each draw
+ * seeds its own stream). A thread that cannot be started has its share run
+ * by the caller. Returns when every draw has run.
+ */
+void bc_resample__parallel(int nt, size_t draws, bc_resample__draw_fn fn, void *ctx);
 
 /* ---- resampling draws ---------------------------------------------- */
 

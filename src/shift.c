@@ -20,29 +20,32 @@
 #define CAUTION "Palaeodepths are interpretations, often from environment terms; bins with few occurrences are weak evidence; a shift can be an artefact of sampling, age uncertainty or transport."
 #define SPLIT_NOTE "200 m is the conventional shelf edge (common practice, no source)"
 
-/* One SELECT reads only the columns the counting uses. */
-static const char SQL_SELECT[] =
-	"SELECT o.occurrence_pk, o.older_ma, o.younger_ma, o.min_depth_m, o.max_depth_m,"
-	" o.reference_key, o.locality_id, o.articulation, NULL, NULL"
-	" FROM occurrences o"
-	" WHERE (:grp IS NULL OR o.taxon_group = :grp COLLATE NOCASE)"
-	" AND (:taxon IS NULL OR o.scientific_name = :taxon COLLATE NOCASE OR o.genus = :taxon COLLATE NOCASE"
-	"  OR o.family = :taxon COLLATE NOCASE OR o.\"order\" = :taxon COLLATE NOCASE"
-	"  OR o.scientific_name LIKE :taxon_prefix ESCAPE '\\')"
-	" AND (:artic IS NULL OR o.articulation = :artic COLLATE NOCASE)"
-	" AND (:pres IS NULL OR o.preservation = :pres COLLATE NOCASE)"
-	" ORDER BY o.occurrence_pk";
-static const char SQL_SELECT_REGION[] =
-	"SELECT o.occurrence_pk, o.older_ma, o.younger_ma, o.min_depth_m, o.max_depth_m,"
-	" o.reference_key, o.locality_id, o.articulation, l.longitude, l.latitude"
-	" FROM occurrences o LEFT JOIN localities l ON l.fid = o.locality_id"
-	" WHERE (:grp IS NULL OR o.taxon_group = :grp COLLATE NOCASE)"
-	" AND (:taxon IS NULL OR o.scientific_name = :taxon COLLATE NOCASE OR o.genus = :taxon COLLATE NOCASE"
-	"  OR o.family = :taxon COLLATE NOCASE OR o.\"order\" = :taxon COLLATE NOCASE"
-	"  OR o.scientific_name LIKE :taxon_prefix ESCAPE '\\')"
-	" AND (:artic IS NULL OR o.articulation = :artic COLLATE NOCASE)"
-	" AND (:pres IS NULL OR o.preservation = :pres COLLATE NOCASE)"
-	" ORDER BY o.occurrence_pk";
+/* The selection shift and ranges share (doc/shift.md, "Selection"): one
+ * SELECT of the columns they use and the name at a taxonomic rank when
+ * asked (:rank NULL: none); with --region also the locality's coordinates
+ * (the join costs a fifth of the time of a plain table, so only then). */
+#define SELECT_HEAD \
+	"SELECT o.occurrence_pk, o.older_ma, o.younger_ma, o.min_depth_m, o.max_depth_m," \
+	" o.reference_key, o.locality_id, o.articulation,"
+#define SELECT_TAIL \
+	" CASE WHEN :rank IS NULL THEN NULL WHEN :rank = 'family' THEN o.family WHEN :rank = 'order' THEN o.\"order\"" \
+	"  WHEN :rank = 'species' THEN o.scientific_name" \
+	"  WHEN trim(o.genus) <> '' THEN o.genus" \
+	"  WHEN instr(trim(o.scientific_name), ' ') > 0 THEN substr(trim(o.scientific_name), 1, instr(trim(o.scientific_name), ' ') - 1)" \
+	"  ELSE o.scientific_name END"
+#define SELECT_WHERE \
+	" WHERE (:grp IS NULL OR o.taxon_group = :grp COLLATE NOCASE)" \
+	" AND (:taxon IS NULL OR o.scientific_name = :taxon COLLATE NOCASE OR o.genus = :taxon COLLATE NOCASE" \
+	"  OR o.family = :taxon COLLATE NOCASE OR o.\"order\" = :taxon COLLATE NOCASE" \
+	"  OR o.scientific_name LIKE :taxon_prefix ESCAPE '\\')" \
+	" AND (:artic IS NULL OR o.articulation = :artic COLLATE NOCASE)" \
+	" AND (:pres IS NULL OR o.preservation = :pres COLLATE NOCASE)" \
+	" ORDER BY o.occurrence_pk"
+static const char SQL_SELECT[] = SELECT_HEAD " NULL, NULL," SELECT_TAIL " FROM occurrences o" SELECT_WHERE;
+static const char SQL_SELECT_REGION[] = SELECT_HEAD " l.longitude, l.latitude," SELECT_TAIL
+	" FROM occurrences o LEFT JOIN localities l ON l.fid = o.locality_id" SELECT_WHERE;
+static const char SQL_LOCALITIES[] =
+	"SELECT fid, longitude, latitude FROM localities WHERE longitude IS NOT NULL AND latitude IS NOT NULL";
 static const char SQL_VOCABS[] =
 	"SELECT kind, name, sha256 FROM vocabularies ORDER BY kind, vocabulary_id";
 
@@ -194,6 +197,13 @@ int bc_shift_option_set(bc_shift_options *o, const char *name, const char *value
 		o->zones_given = 1;
 		return BC_OK;
 	}
+	if (strcmp(name, "cell-km") == 0) {
+		double c;
+		if (parse_positive(value, &c) || c > 20000)
+			return bc_err_set(err, BC_EUSAGE, "--cell-km: '%s' is not a cell size in km between 0 and 20000, e.g. 100", value);
+		o->cell_km = c;
+		return BC_OK;
+	}
 	if (strcmp(name, "level") == 0) {
 		double l;
 		if (parse_positive(value, &l) || l >= 1)
@@ -289,9 +299,11 @@ size_t bc_shift__place(const bc_shift__bin *bins, size_t nbins, double top, doub
 	return best;
 }
 
-int bc_shift__count(double *counts, size_t *n_refs, size_t *n_locs, bc_shift__tally *tally,
-		    const bc_shift__occ *occ, size_t n, const bc_shift__bin *bins, size_t nbins,
-		    int rule, double max_myr, size_t n_zones, size_t ref_keys, size_t loc_keys, bc_err *err)
+/* bc_shift__count; `lbits_out` (may be NULL) receives the bit set of
+ * (locality l, bin k) at l * nbins + k, for the coverage (caller frees). */
+static int count_impl(double *counts, size_t *n_refs, size_t *n_locs, uint64_t **lbits_out, bc_shift__tally *tally,
+		      const bc_shift__occ *occ, size_t n, const bc_shift__bin *bins, size_t nbins,
+		      int rule, double max_myr, size_t n_zones, size_t ref_keys, size_t loc_keys, bc_err *err)
 {
 	size_t stride = bc_shift__stride(n_zones);
 	uint64_t *rbits = NULL, *lbits = NULL;
@@ -362,8 +374,18 @@ int bc_shift__count(double *counts, size_t *n_refs, size_t *n_locs, bc_shift__ta
 		}
 	}
 	free(rbits);
-	free(lbits);
+	if (lbits_out)
+		*lbits_out = lbits;
+	else
+		free(lbits);
 	return BC_OK;
+}
+
+int bc_shift__count(double *counts, size_t *n_refs, size_t *n_locs, bc_shift__tally *tally,
+		    const bc_shift__occ *occ, size_t n, const bc_shift__bin *bins, size_t nbins,
+		    int rule, double max_myr, size_t n_zones, size_t ref_keys, size_t loc_keys, bc_err *err)
+{
+	return count_impl(counts, n_refs, n_locs, NULL, tally, occ, n, bins, nbins, rule, max_myr, n_zones, ref_keys, loc_keys, err);
 }
 
 /* ------------------------------------------------------------------ */
@@ -678,7 +700,8 @@ static int in_region(const double r[4], double lon, double lat)
  * occurrence_pk order, as little-endian binary: pk int64, older, younger,
  * min depth, max depth as float64 (NULL = the quiet NaN 0x7ff8...0),
  * locality id int64 (-1 = none), then articulation and reference key as
- * uint32 length + UTF-8 bytes. doc/shift.md repeats this layout. */
+ * uint32 length + UTF-8 bytes (ranges: then the name at the rank the same
+ * way). doc/shift.md repeats this layout. */
 static void put_le64(struct sha256_ctx *h, uint64_t v)
 {
 	uint8_t b[8];
@@ -695,129 +718,88 @@ static void put_str(struct sha256_ctx *h, const char *s)
 	sha256_update(h, n, (const uint8_t *)s);
 }
 
-static int cmp64(const void *a, const void *b)
+static void put_double(struct sha256_ctx *h, double v)
 {
-	int64_t x = *(const int64_t *)a, y = *(const int64_t *)b;
-	return (x > y) - (x < y);
+	uint64_t bits = 0x7ff8000000000000ULL; /* NULL (SQLite stores no NaN) */
+	if (!isnan(v))
+		memcpy(&bits, &v, sizeof bits);
+	put_le64(h, bits);
 }
 
-static int load(bc_shift *s, bc_db *db, bc_err *err)
+int bc_shift__select(bc_db *db, const bc_shift_options *o, const char *rank, bc_shift__row_fn fn, void *ctx,
+		     bc_shift__selected *out, bc_err *err)
 {
 	sqlite3_stmt *st = NULL;
-	strmap refs = {NULL, 0};
-	int64_t *locids = NULL;
-	size_t cap = 0;
 	char *prefix = NULL;
 	struct sha256_ctx hash;
-	int rc = bc_db__prepare(db, &st, s->opts.has_region ? SQL_SELECT_REGION : SQL_SELECT, err);
+	memset(out, 0, sizeof *out);
+	int rc = bc_db__prepare(db, &st, o->has_region ? SQL_SELECT_REGION : SQL_SELECT, err);
 	if (rc)
 		return rc;
-	int artic = art_class(s->opts.preservation);
-	if (s->opts.taxon) {
+	int artic = art_class(o->preservation);
+	if (o->taxon) {
 		/* "Genus" also matches "Genus species ..." in scientific_name. */
 		bc_buf b = {0};
-		for (const char *p = s->opts.taxon; *p; p++) {
-			if ((*p == '%' || *p == '_' || *p == '\\') && bc__buf_puts(&b, "\\"))
-				break;
-			if (bc__buf_append(&b, p, 1))
-				break;
+		int bad = 0;
+		for (const char *p = o->taxon; *p && !bad; p++) {
+			if (*p == '%' || *p == '_' || *p == '\\')
+				bad |= bc__buf_puts(&b, "\\");
+			bad |= bc__buf_append(&b, p, 1);
 		}
-		if (bc__buf_puts(&b, " %")) {
+		bad |= bc__buf_puts(&b, " %");
+		if (bad) {
 			bc__buf_free(&b);
 			rc = oom(err);
 			goto done;
 		}
 		prefix = b.data;
 	}
-	bc_db__bind_text(st, ":grp", s->opts.group);
-	bc_db__bind_text(st, ":taxon", s->opts.taxon);
+	bc_db__bind_text(st, ":rank", rank);
+	bc_db__bind_text(st, ":grp", o->group);
+	bc_db__bind_text(st, ":taxon", o->taxon);
 	bc_db__bind_text(st, ":taxon_prefix", prefix);
 	bc_db__bind_text(st, ":artic", artic >= 0 ? art_classes[artic] : NULL);
-	bc_db__bind_text(st, ":pres", artic >= 0 ? NULL : s->opts.preservation);
+	bc_db__bind_text(st, ":pres", artic >= 0 ? NULL : o->preservation);
 	sha256_init(&hash);
-	int64_t maxloc = -1;
-	int step, last_class = -1;
-	char last_art[64] = "";
+	int step;
 	while ((step = sqlite3_step(st)) == SQLITE_ROW) {
-		s->sum.n_selected++;
-		if (s->opts.has_region) {
-			if (sqlite3_column_type(st, 8) == SQLITE_NULL || sqlite3_column_type(st, 9) == SQLITE_NULL) {
-				s->sum.n_no_coordinates++;
+		out->n_selected++;
+		/* Each column is read once, in order. */
+		bc_shift__row r;
+		r.lon = sqlite3_column_type(st, 8) == SQLITE_NULL ? NAN : sqlite3_column_double(st, 8);
+		r.lat = sqlite3_column_type(st, 9) == SQLITE_NULL ? NAN : sqlite3_column_double(st, 9);
+		if (o->has_region) {
+			if (isnan(r.lon) || isnan(r.lat)) {
+				out->n_no_coordinates++;
 				continue;
 			}
-			if (!in_region(s->opts.region, sqlite3_column_double(st, 8), sqlite3_column_double(st, 9))) {
-				s->sum.n_outside_region++;
+			if (!in_region(o->region, r.lon, r.lat)) {
+				out->n_outside_region++;
 				continue;
 			}
 		}
-		/* Each column is read once: every sqlite3_column_* call takes the connection's mutex. */
-		int64_t pk = sqlite3_column_int64(st, 0);
-		double v[4];
-		uint64_t bits[4];
-		int isnull[4];
-		for (int c = 0; c < 4; c++) {
-			isnull[c] = sqlite3_column_type(st, c + 1) == SQLITE_NULL;
-			v[c] = isnull[c] ? NAN : sqlite3_column_double(st, c + 1);
-			bits[c] = 0x7ff8000000000000ULL;
-			if (!isnull[c])
-				memcpy(&bits[c], &v[c], sizeof bits[c]);
-		}
-		const char *ref = (const char *)sqlite3_column_text(st, 5);
-		int64_t loc = sqlite3_column_type(st, 6) == SQLITE_NULL ? -1 : sqlite3_column_int64(st, 6);
-		const char *art = (const char *)sqlite3_column_text(st, 7);
-		ref = ref ? ref : "";
-		art = art ? art : "";
-		put_le64(&hash, (uint64_t)pk);
+		r.pk = sqlite3_column_int64(st, 0);
+		double *v[4] = {&r.older, &r.younger, &r.dmin, &r.dmax};
 		for (int c = 0; c < 4; c++)
-			put_le64(&hash, bits[c]);
-		put_le64(&hash, (uint64_t)loc);
-		put_str(&hash, art);
-		put_str(&hash, ref);
-		int nomin = isnull[2], nomax = isnull[3];
-		if (nomin && nomax) {
-			s->sum.n_no_depth++;
-			continue;
-		}
-		if (s->nocc == cap) {
-			size_t nc = cap ? 2 * cap : 4096;
-			bc_shift__occ *p = bc__realloc(s->occ, nc * sizeof *p);
-			int64_t *q = p ? bc__realloc(locids, nc * sizeof *q) : NULL;
-			if (p)
-				s->occ = p;
-			if (!q) {
-				rc = oom(err);
-				goto done;
-			}
-			locids = q;
-			cap = nc;
-		}
-		bc_shift__occ *o = &s->occ[s->nocc];
-		o->pk = pk;
-		o->older = v[0];
-		o->younger = v[1];
-		/* One depth alone stands for the range [d, d]. */
-		o->dmin = nomin ? v[3] : v[2];
-		o->dmax = nomax ? v[2] : v[3];
-		o->ref = -1;
-		if (*ref && intern(s, &refs, ref, &o->ref)) {
-			rc = oom(err);
+			*v[c] = sqlite3_column_type(st, c + 1) == SQLITE_NULL ? NAN : sqlite3_column_double(st, c + 1);
+		r.ref = (const char *)sqlite3_column_text(st, 5);
+		r.loc = sqlite3_column_type(st, 6) == SQLITE_NULL ? -1 : sqlite3_column_int64(st, 6);
+		r.art = (const char *)sqlite3_column_text(st, 7);
+		r.name = rank ? (const char *)sqlite3_column_text(st, 10) : NULL;
+		r.ref = r.ref ? r.ref : "";
+		r.art = r.art ? r.art : "";
+		if (rank && !r.name)
+			r.name = "";
+		put_le64(&hash, (uint64_t)r.pk);
+		for (int c = 0; c < 4; c++)
+			put_double(&hash, *v[c]);
+		put_le64(&hash, (uint64_t)r.loc);
+		put_str(&hash, r.art);
+		put_str(&hash, r.ref);
+		if (rank)
+			put_str(&hash, r.name);
+		if ((rc = fn(ctx, &r, err)) != BC_OK)
 			goto done;
-		}
-		/* the class of the previous row is usually the same */
-		if (strcmp(art, last_art) != 0) {
-			last_class = art_class(art);
-			snprintf(last_art, sizeof last_art, "%s", art);
-		}
-		int a = strlen(art) < sizeof last_art ? last_class : art_class(art);
-		o->artic = (uint8_t)(a < 0 ? BC_SHIFT__ART_UNKNOWN : a);
-		int z2 = bc_shift__zone(o->dmin, o->dmax, s->opts.zones, 1);
-		o->zone2 = (uint8_t)(z2 < 0 ? BC_SHIFT__STRADDLE : z2);
-		int zk = bc_shift__zone(o->dmin, o->dmax, s->opts.zones, s->opts.n_zones);
-		o->zonek = (uint8_t)(zk < 0 ? BC_SHIFT__ZSTRADDLE : zk);
-		locids[s->nocc] = loc;
-		if (loc > maxloc)
-			maxloc = loc;
-		s->nocc++;
 	}
 	if (step != SQLITE_DONE) {
 		rc = bc_db__error(db, err, "reading occurrences");
@@ -826,14 +808,140 @@ static int load(bc_shift *s, bc_db *db, bc_err *err)
 	uint8_t d[SHA256_DIGEST_SIZE];
 	sha256_digest(&hash, sizeof d, d);
 	for (int i = 0; i < SHA256_DIGEST_SIZE; i++)
-		snprintf(s->sum.data_sha256 + 2 * i, 3, "%02x", d[i]);
+		snprintf(out->data_sha256 + 2 * i, 3, "%02x", d[i]);
+done:
+	sqlite3_finalize(st);
+	free(prefix);
+	return rc;
+}
+
+static int cmp64(const void *a, const void *b)
+{
+	int64_t x = *(const int64_t *)a, y = *(const int64_t *)b;
+	return (x > y) - (x < y);
+}
+
+/* What load() keeps between rows. */
+typedef struct load_ctx {
+	bc_shift *s;
+	strmap refs;
+	int64_t *locids;
+	size_t cap;
+	int64_t maxloc;
+	int last_class;
+	char last_art[64];
+} load_ctx;
+
+static int load_row(void *ctx, const bc_shift__row *r, bc_err *err)
+{
+	load_ctx *c = ctx;
+	bc_shift *s = c->s;
+	if (isnan(r->dmin) && isnan(r->dmax)) {
+		s->sum.n_no_depth++;
+		return BC_OK;
+	}
+	if (s->nocc == c->cap) {
+		size_t nc = c->cap ? 2 * c->cap : 4096;
+		bc_shift__occ *p = bc__realloc(s->occ, nc * sizeof *p);
+		int64_t *q = p ? bc__realloc(c->locids, nc * sizeof *q) : NULL;
+		if (p)
+			s->occ = p;
+		if (!q)
+			return oom(err);
+		c->locids = q;
+		c->cap = nc;
+	}
+	bc_shift__occ *o = &s->occ[s->nocc];
+	o->pk = r->pk;
+	o->older = r->older;
+	o->younger = r->younger;
+	/* One depth alone stands for the range [d, d]. */
+	o->dmin = isnan(r->dmin) ? r->dmax : r->dmin;
+	o->dmax = isnan(r->dmax) ? r->dmin : r->dmax;
+	o->ref = -1;
+	if (*r->ref && intern(s, &c->refs, r->ref, &o->ref))
+		return oom(err);
+	/* the class of the previous row is usually the same */
+	if (strcmp(r->art, c->last_art) != 0) {
+		c->last_class = art_class(r->art);
+		snprintf(c->last_art, sizeof c->last_art, "%s", r->art);
+	}
+	int a = strlen(r->art) < sizeof c->last_art ? c->last_class : art_class(r->art);
+	o->artic = (uint8_t)(a < 0 ? BC_SHIFT__ART_UNKNOWN : a);
+	int z2 = bc_shift__zone(o->dmin, o->dmax, s->opts.zones, 1);
+	o->zone2 = (uint8_t)(z2 < 0 ? BC_SHIFT__STRADDLE : z2);
+	int zk = bc_shift__zone(o->dmin, o->dmax, s->opts.zones, s->opts.n_zones);
+	o->zonek = (uint8_t)(zk < 0 ? BC_SHIFT__ZSTRADDLE : zk);
+	c->locids[s->nocc] = r->loc;
+	if (r->loc > c->maxloc)
+		c->maxloc = r->loc;
+	s->nocc++;
+	return BC_OK;
+}
+
+/* The coordinates of each dense locality index (NaN when none), for the
+ * coverage: one read of the localities table, not a join per occurrence.
+ * `u` NULL: the index is the fid; else u[0 .. nloc) are the sorted fids. */
+static int load_coordinates(bc_shift *s, bc_db *db, const int64_t *u, bc_err *err)
+{
+	sqlite3_stmt *st = NULL;
+	size_t n = s->nloc ? s->nloc : 1;
+	s->loc_lon = bc__malloc(n * sizeof *s->loc_lon);
+	s->loc_lat = bc__malloc(n * sizeof *s->loc_lat);
+	if (!s->loc_lon || !s->loc_lat)
+		return oom(err);
+	for (size_t i = 0; i < n; i++)
+		s->loc_lon[i] = s->loc_lat[i] = NAN;
+	if (!s->nloc)
+		return BC_OK;
+	int rc = bc_db__prepare(db, &st, SQL_LOCALITIES, err), step = SQLITE_DONE;
+	while (rc == BC_OK && (step = sqlite3_step(st)) == SQLITE_ROW) {
+		int64_t fid = sqlite3_column_int64(st, 0);
+		size_t k = s->nloc;
+		if (!u) {
+			k = fid >= 0 && (uint64_t)fid < s->nloc ? (size_t)fid : s->nloc;
+		} else {
+			size_t lo = 0, hi = s->nloc;
+			while (lo < hi) {
+				size_t mid = (lo + hi) / 2;
+				if (u[mid] < fid)
+					lo = mid + 1;
+				else
+					hi = mid;
+			}
+			k = lo < s->nloc && u[lo] == fid ? lo : s->nloc;
+		}
+		if (k < s->nloc) {
+			s->loc_lon[k] = sqlite3_column_double(st, 1);
+			s->loc_lat[k] = sqlite3_column_double(st, 2);
+		}
+	}
+	if (rc == BC_OK && step != SQLITE_DONE)
+		rc = bc_db__error(db, err, "reading locality coordinates");
+	sqlite3_finalize(st);
+	return rc;
+}
+
+static int load(bc_shift *s, bc_db *db, bc_err *err)
+{
+	load_ctx c = {s, {NULL, 0}, NULL, 0, -1, -1, ""};
+	int64_t *u = NULL; /* sorted distinct fids when they are not used directly */
+	bc_shift__selected sel;
+	int rc = bc_shift__select(db, &s->opts, NULL, load_row, &c, &sel, err);
+	s->sum.n_selected = sel.n_selected;
+	s->sum.n_no_coordinates = sel.n_no_coordinates;
+	s->sum.n_outside_region = sel.n_outside_region;
+	memcpy(s->sum.data_sha256, sel.data_sha256, sizeof s->sum.data_sha256);
+	if (rc)
+		goto done;
+	int64_t maxloc = c.maxloc, *locids = c.locids;
 	/* Dense locality indices: ids are AUTOINCREMENT, so usually direct. */
 	if (maxloc >= 0 && (uint64_t)maxloc < 4 * (uint64_t)s->nocc + 1024 && maxloc < INT32_MAX) {
 		for (size_t i = 0; i < s->nocc; i++)
 			s->occ[i].loc = (int32_t)locids[i];
 		s->nloc = (size_t)maxloc + 1;
 	} else if (maxloc >= 0) {
-		int64_t *u = bc__malloc(s->nocc * sizeof *u);
+		u = bc__malloc(s->nocc * sizeof *u);
 		size_t nu = 0;
 		if (!u) {
 			rc = oom(err);
@@ -862,25 +970,24 @@ static int load(bc_shift *s, bc_db *db, bc_err *err)
 			s->occ[i].loc = (int32_t)lo;
 		}
 		s->nloc = m;
-		free(u);
 	} else {
 		for (size_t i = 0; i < s->nocc; i++)
 			s->occ[i].loc = -1;
 	}
+	rc = load_coordinates(s, db, u, err);
 done:
-	sqlite3_finalize(st);
-	free(refs.slot);
-	free(locids);
-	free(prefix);
+	free(u);
+	free(c.refs.slot);
+	free(c.locids);
 	return rc;
 }
 
-
-static int read_vocabs(bc_shift *s, bc_db *db, bc_err *err)
+int bc_shift__vocabs(char **out, bc_db *db, bc_err *err)
 {
 	sqlite3_stmt *st = NULL;
 	bc_buf b = {0};
-	int rc = bc_db__prepare(db, &st, SQL_VOCABS, err), step;
+	int rc = bc_db__prepare(db, &st, SQL_VOCABS, err), step = SQLITE_DONE;
+	*out = NULL;
 	if (rc)
 		return rc;
 	while (rc == BC_OK && (step = sqlite3_step(st)) == SQLITE_ROW)
@@ -895,7 +1002,7 @@ static int read_vocabs(bc_shift *s, bc_db *db, bc_err *err)
 		bc__buf_free(&b);
 		return rc;
 	}
-	s->vocabs = b.data;
+	*out = b.data;
 	return BC_OK;
 }
 
@@ -950,6 +1057,67 @@ static void bin_stats(bc_shift *s, const double *counts, const size_t *nrefs, co
 			b->n_zone_straddle = c[BC_SHIFT__C_ZSTRADDLE];
 		}
 	}
+}
+
+typedef struct lonlat {
+	double lon, lat;
+} lonlat;
+
+static int lonlat_cmp(const void *a, const void *b)
+{
+	const lonlat *p = a, *q = b;
+	if (p->lon != q->lon)
+		return p->lon < q->lon ? -1 : 1;
+	return (p->lat > q->lat) - (p->lat < q->lat);
+}
+
+/* Spatial coverage of each reported bin: the localities counted in its
+ * n_localities (bit l * ncand + first + i of `lbits`), their coordinates
+ * through the geo module's bc_coverage_points. */
+static int bin_coverage(bc_shift *s, const uint64_t *lbits, size_t ncand, size_t first, bc_err *err)
+{
+	bc_coverage_options co = BC_COVERAGE_OPTIONS_INIT;
+	co.cell_km = s->opts.cell_km;
+	co.mst_max_points = BC_SHIFT_MST_MAX_POINTS;
+	double *lon = bc__malloc((s->nloc ? s->nloc : 1) * sizeof *lon), *lat = bc__malloc((s->nloc ? s->nloc : 1) * sizeof *lat);
+	lonlat *pt = bc__malloc((s->nloc ? s->nloc : 1) * sizeof *pt);
+	int rc = lon && lat && pt ? BC_OK : oom(err);
+	for (size_t i = 0; rc == BC_OK && i < s->nbins; i++) {
+		bc_shift_bin *b = &s->out[i];
+		size_t m = 0, unloc = 0, k = first + i;
+		for (size_t l = 0; l < s->nloc; l++) {
+			if (!bit_get(lbits, l * ncand + k))
+				continue;
+			if (isnan(s->loc_lon[l])) {
+				unloc++;
+				continue;
+			}
+			pt[m++] = (lonlat){s->loc_lon[l], s->loc_lat[l]};
+		}
+		/* Localities at the same point add no cell, latitude or tree
+		 * length: each point goes to the geo module once. */
+		qsort(pt, m, sizeof *pt, lonlat_cmp);
+		size_t np = 0;
+		for (size_t j = 0; j < m; j++)
+			if (np == 0 || lonlat_cmp(&pt[j], &pt[np - 1]) != 0) {
+				lon[np] = pt[j].lon;
+				lat[np] = pt[j].lat;
+				pt[np++] = pt[j];
+			}
+		m = np;
+		bc_coverage cv;
+		b->n_unlocated = unloc;
+		if ((rc = bc_coverage_points(&cv, lon, lat, m, &co, err)) != BC_OK)
+			break;
+		b->n_cells = cv.n_cells;
+		b->lat_range_deg = cv.lat_range;
+		b->mst_km = cv.mst_km;
+		s->sum.n_bins_mst_skipped += (size_t)isnan(cv.mst_km);
+	}
+	free(lon);
+	free(lat);
+	free(pt);
+	return rc;
 }
 
 static void across_stats(bc_shift *s)
@@ -1032,6 +1200,8 @@ void bc_shift_free(bc_shift *s)
 	free(s->bins_file_sha);
 	free(s->vocabs);
 	free(s->occ);
+	free(s->loc_lon);
+	free(s->loc_lat);
 	for (size_t i = 0; i < s->nref; i++)
 		free(s->refkeys[i]);
 	free(s->refkeys);
@@ -1042,7 +1212,7 @@ void bc_shift_free(bc_shift *s)
 	free(s);
 }
 
-static int dup_opt(char **dst, const char **field)
+int bc_shift__dup_opt(char **dst, const char **field)
 {
 	if (!*field)
 		return 0;
@@ -1068,16 +1238,55 @@ static void describe_selection(const bc_shift_options *o, bc_buf *b)
 		bc__buf_puts(b, "all occurrences");
 }
 
-static void excluded_words(const bc_shift_summary *u, bc_buf *b)
+void bc_shift__excluded_words(bc_buf *b, const bc_shift__excluded *ex, size_t n)
 {
-	const struct { size_t n; const char *why; } ex[] = {
-		{u->n_no_coordinates, "no coordinates (--region)"}, {u->n_outside_region, "outside the region"},
-		{u->n_no_depth, "no palaeodepth"}, {u->n_too_long, "age range longer than --span max"},
-		{u->n_outside_bins, "age outside every bin"},
-	};
-	for (size_t i = 0; i < sizeof ex / sizeof ex[0]; i++)
+	for (size_t i = 0; i < n; i++)
 		if (ex[i].n)
 			bc__buf_printf(b, "%s%zu %s", b->len ? ", " : "", ex[i].n, ex[i].why);
+}
+
+int bc_shift__nothing_left(bc_err *err, const char *db_path, const bc_shift_options *o, size_t n_selected, size_t n_left,
+			   const bc_shift__excluded *ex, size_t nex, const char *verb)
+{
+	bc_buf w = {0}, x = {0};
+	int rc = BC_OK;
+	if (n_selected && n_left)
+		return BC_OK;
+	describe_selection(o, &w);
+	if (!n_selected) {
+		rc = bc_err_set(err, BC_EINVALID, "%s: no occurrences match the selection (%s)", db_path, w.data ? w.data : "");
+	} else {
+		bc_shift__excluded_words(&x, ex, nex);
+		rc = bc_err_set(err, BC_EINVALID, "%s: %zu occurrences match the selection (%s), but none is left to %s: %s",
+			db_path, n_selected, w.data ? w.data : "", verb, x.data ? x.data : "");
+	}
+	bc__buf_free(&w);
+	bc__buf_free(&x);
+	return rc;
+}
+
+/* Why occurrences were left out, in the order of the rules; returns the count (5). */
+static size_t shift_excluded(const bc_shift_summary *u, bc_shift__excluded ex[5])
+{
+	ex[0] = (bc_shift__excluded){u->n_no_coordinates, "no coordinates (--region)"};
+	ex[1] = (bc_shift__excluded){u->n_outside_region, "outside the region"};
+	ex[2] = (bc_shift__excluded){u->n_no_depth, "no palaeodepth"};
+	ex[3] = (bc_shift__excluded){u->n_too_long, "age range longer than --span max"};
+	ex[4] = (bc_shift__excluded){u->n_outside_bins, "age outside every bin"};
+	return 5;
+}
+
+static void excluded_words(const bc_shift_summary *u, bc_buf *b)
+{
+	bc_shift__excluded ex[5];
+	bc_shift__excluded_words(b, ex, shift_excluded(u, ex));
+}
+
+static int nothing_left(const bc_shift *s, size_t n_left, bc_err *err)
+{
+	bc_shift__excluded ex[5];
+	size_t nex = shift_excluded(&s->sum, ex);
+	return bc_shift__nothing_left(err, s->db_path, &s->opts, s->sum.n_selected, n_left, ex, nex, "count");
 }
 
 int bc_shift_compute(bc_shift **out, bc_db *db, const bc_shift_options *opts, bc_err *err)
@@ -1085,8 +1294,8 @@ int bc_shift_compute(bc_shift **out, bc_db *db, const bc_shift_options *opts, bc
 	*out = NULL;
 	double *counts = NULL;
 	size_t *nrefs = NULL, *nlocs = NULL, ncand = 0;
+	uint64_t *lbits = NULL;
 	bc_shift__bin *cand = NULL;
-	bc_buf words = {0};
 	int rc = BC_OK;
 	if (!opts->n_zones || opts->n_zones > BC_SHIFT_MAX_ZONES)
 		return bc_err_set(err, BC_EUSAGE, "shift: no depth boundary (--split or --zones)");
@@ -1102,9 +1311,9 @@ int bc_shift_compute(bc_shift **out, bc_db *db, const bc_shift_options *opts, bc
 	if (!s)
 		return oom(err);
 	s->opts = *opts;
-	if (dup_opt(&s->group, &s->opts.group) || dup_opt(&s->taxon, &s->opts.taxon) ||
-	    dup_opt(&s->preservation, &s->opts.preservation) || dup_opt(&s->timescale, &s->opts.timescale) ||
-	    dup_opt(&s->bins_file, &s->opts.bins_file) || !(s->db_path = bc__strdup(bc_db_path(db)))) {
+	if (bc_shift__dup_opt(&s->group, &s->opts.group) || bc_shift__dup_opt(&s->taxon, &s->opts.taxon) ||
+	    bc_shift__dup_opt(&s->preservation, &s->opts.preservation) || bc_shift__dup_opt(&s->timescale, &s->opts.timescale) ||
+	    bc_shift__dup_opt(&s->bins_file, &s->opts.bins_file) || !(s->db_path = bc__strdup(bc_db_path(db)))) {
 		rc = oom(err);
 		goto done;
 	}
@@ -1125,24 +1334,13 @@ int bc_shift_compute(bc_shift **out, bc_db *db, const bc_shift_options *opts, bc
 		}
 	}
 	if (rc == BC_OK)
-		rc = read_vocabs(s, db, err);
+		rc = bc_shift__vocabs(&s->vocabs, db, err);
 	if (rc == BC_OK)
 		rc = load(s, db, err);
 	if (rc)
 		goto done;
-	describe_selection(&s->opts, &words);
-	if (s->sum.n_selected == 0) {
-		rc = bc_err_set(err, BC_EINVALID, "%s: no occurrences match the selection (%s)", s->db_path, words.data ? words.data : "");
+	if ((rc = nothing_left(s, s->nocc, err)) != BC_OK)
 		goto done;
-	}
-	if (s->nocc == 0) {
-		bc_buf ex = {0};
-		excluded_words(&s->sum, &ex);
-		rc = bc_err_set(err, BC_EINVALID, "%s: %zu occurrences match the selection (%s), but none is left to count: %s",
-			s->db_path, s->sum.n_selected, words.data ? words.data : "", ex.data ? ex.data : "");
-		bc__buf_free(&ex);
-		goto done;
-	}
 	if (opts->bins == BC_BINS_WIDTH && (rc = bins_width(s, &cand, &ncand, err)))
 		goto done;
 	size_t nz = s->opts.zones_given ? s->opts.n_zones : 0, stride = bc_shift__stride(nz);
@@ -1154,7 +1352,7 @@ int bc_shift_compute(bc_shift **out, bc_db *db, const bc_shift_options *opts, bc
 		goto done;
 	}
 	bc_shift__tally tally;
-	rc = bc_shift__count(counts, nrefs, nlocs, &tally, s->occ, s->nocc, cand, ncand, (int)s->opts.span,
+	rc = count_impl(counts, nrefs, nlocs, &lbits, &tally, s->occ, s->nocc, cand, ncand, (int)s->opts.span,
 		s->opts.span_max_myr, nz, s->nref, s->nloc, err);
 	if (rc)
 		goto done;
@@ -1162,14 +1360,8 @@ int bc_shift_compute(bc_shift **out, bc_db *db, const bc_shift_options *opts, bc
 	s->sum.n_outside_bins = tally.n_outside;
 	s->sum.n_used = tally.n_used;
 	s->sum.n_multi_bin = tally.n_multi;
-	if (tally.n_used == 0) {
-		bc_buf ex = {0};
-		excluded_words(&s->sum, &ex);
-		rc = bc_err_set(err, BC_EINVALID, "%s: %zu occurrences match the selection (%s), but none is left to count: %s",
-			s->db_path, s->sum.n_selected, words.data ? words.data : "", ex.data ? ex.data : "");
-		bc__buf_free(&ex);
+	if ((rc = nothing_left(s, tally.n_used, err)) != BC_OK)
 		goto done;
-	}
 	/* Report the span from the oldest to the youngest occupied bin, empty bins between included. */
 	size_t first = ncand, last = 0;
 	for (size_t k = 0; k < ncand; k++) {
@@ -1194,14 +1386,16 @@ int bc_shift_compute(bc_shift **out, bc_db *db, const bc_shift_options *opts, bc
 		cand[first + k].name = NULL; /* moved */
 	}
 	bin_stats(s, counts, nrefs, nlocs, first);
+	if ((rc = bin_coverage(s, lbits, ncand, first, err)) != BC_OK)
+		goto done;
 	across_stats(s);
 	rc = bc_resample__run(s, db, opts->chart, err);
 done:
-	bc__buf_free(&words);
 	bc_shift__bins_free(cand, ncand);
 	free(counts);
 	free(nrefs);
 	free(nlocs);
+	free(lbits);
 	if (rc) {
 		bc_shift_free(s);
 		return rc;
@@ -1329,6 +1523,10 @@ static void describe_options(const bc_shift_options *o, bc_buf *b)
 	put_arg(b, o->zones_given ? "zones" : "split", v);
 	snprintf(v, sizeof v, "%g", o->level);
 	put_arg(b, "level", v);
+	if (o->cell_km != 100.0) {
+		snprintf(v, sizeof v, "%g", o->cell_km);
+		put_arg(b, "cell-km", v);
+	}
 	bc_resample__describe_options(o, b);
 }
 
@@ -1363,6 +1561,13 @@ static int build_table(const bc_shift *s, bc_table **out, bc_err *err)
 	size_t ncol_shift = bc_output__column_count(t);
 	if (rc == BC_OK)
 		rc = bc_resample__columns(s, t, err);
+	/* spatial coverage, after every other column */
+	size_t ncol_cov = bc_output__column_count(t);
+	static const struct { const char *name; bc_col_type type; int digits; } cov[] = {
+		{"n_cells", BC_COL_COUNT, 0}, {"lat_range_deg", BC_COL_REAL, 2}, {"mst_km", BC_COL_REAL, 0}, {"n_unlocated", BC_COL_COUNT, 0},
+	};
+	for (size_t i = 0; rc == BC_OK && i < sizeof cov / sizeof cov[0]; i++)
+		rc = bc_output__add_column(t, cov[i].name, cov[i].type, cov[i].digits, err);
 	for (size_t i = 0; rc == BC_OK && i < s->nbins; i++) {
 		const bc_shift_bin *x = &s->out[i];
 		rc = bc_output__add_row(t, err);
@@ -1382,6 +1587,9 @@ static int build_table(const bc_shift *s, bc_table **out, bc_err *err)
 			bc_output__set_num(t, nfix + s->opts.n_zones + 1, x->n_zone_straddle);
 		}
 		bc_resample__row(s, t, i, ncol_shift);
+		const double cv[] = {(double)x->n_cells, x->lat_range_deg, x->mst_km, (double)x->n_unlocated};
+		for (size_t c = 0; c < sizeof cv / sizeof cv[0]; c++)
+			bc_output__set_num(t, ncol_cov + c, cv[c]);
 	}
 	/* Caption: selection, binning, zoning, chart. */
 	if (rc == BC_OK) {
@@ -1448,6 +1656,44 @@ static int build_table(const bc_shift *s, bc_table **out, bc_err *err)
 	return BC_OK;
 }
 
+int bc_shift__stamp_source(bc_table *t, const char *db_path, const char *chart_name, const char *chart_source,
+			   const char *vocabs, bc_err *err)
+{
+	bc_meta_section S = BC_META_STAMP;
+	int has_source = chart_source && *chart_source;
+	int rc = bc_output__meta_text(t, S, "tool", err, "bathychron %s", BC_VERSION);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "database", err, "%s", db_path);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "chart", err, "%s%s%s%s", chart_name ? chart_name : "none (bins not from a chart)",
+			has_source ? " (" : "", has_source ? chart_source : "", has_source ? ")" : "");
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "vocabularies", err, "%s", vocabs);
+	return rc;
+}
+
+int bc_shift__stamp_zone_rule(bc_table *t, const char *straddling, bc_err *err)
+{
+	return bc_output__meta_text(t, BC_META_STAMP, "zone_rule", err, "at a boundary S a depth range [min, max] is shallow when max <= S and min < S, "
+		"deep when min >= S, otherwise straddling (%s); a single depth d is [d, d]; one missing end is taken as equal to the other", straddling);
+}
+
+int bc_shift__stamp_data(bc_table *t, const bc_shift_options *o, const char *sha256, size_t n_selected,
+			 size_t n_no_coordinates, size_t n_outside_region, bc_err *err)
+{
+	bc_meta_section S = BC_META_STAMP;
+	int rc = bc_output__meta_num(t, S, "level", o->level, 0, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "data_sha256", err, "%s", sha256);
+	if (rc == BC_OK)
+		rc = bc_output__meta_num(t, S, "selected", (double)n_selected, 0, err);
+	if (rc == BC_OK && o->has_region)
+		rc = bc_output__meta_num(t, S, "excluded_no_coordinates", (double)n_no_coordinates, 0, err);
+	if (rc == BC_OK && o->has_region)
+		rc = bc_output__meta_num(t, S, "excluded_outside_region", (double)n_outside_region, 0, err);
+	return rc;
+}
+
 /* The methods stamp (the shift table's, and the taphonomy table's). */
 int bc_shift__stamp(const bc_shift *s, bc_table *t, bc_err *err)
 {
@@ -1456,15 +1702,7 @@ int bc_shift__stamp(const bc_shift *s, bc_table *t, bc_err *err)
 	int rc = BC_OK;
 	const bc_shift_summary *u = &s->sum;
 	if (rc == BC_OK)
-		rc = bc_output__meta_text(t, S, "tool", err, "bathychron %s", BC_VERSION);
-	if (rc == BC_OK)
-		rc = bc_output__meta_text(t, S, "database", err, "%s", s->db_path);
-	if (rc == BC_OK)
-		rc = bc_output__meta_text(t, S, "chart", err, "%s%s%s%s", s->chart_name ? s->chart_name : "none (bins not from a chart)",
-			s->chart_source && *s->chart_source ? " (" : "", s->chart_source ? s->chart_source : "", s->chart_source && *s->chart_source ? ")" : "");
-	if (rc == BC_OK)
-		rc = bc_output__meta_text(t, S, "vocabularies", err, "%s", s->vocabs);
-	b = (bc_buf){0};
+		rc = bc_shift__stamp_source(t, s->db_path, s->chart_name, s->chart_source, s->vocabs, err);
 	describe_options(&s->opts, &b);
 	if (rc == BC_OK)
 		rc = bc_output__meta_text(t, S, "options", err, "%s", b.data ? b.data + 1 : "");
@@ -1486,18 +1724,9 @@ int bc_shift__stamp(const bc_shift *s, bc_table *t, bc_err *err)
 		rc = bc_output__meta_text(t, S, "zones", err, "%s", b.data ? b.data : "");
 	bc__buf_free(&b);
 	if (rc == BC_OK)
-		rc = bc_output__meta_text(t, S, "zone_rule", err, "at a boundary S a depth range [min, max] is shallow when max <= S and min < S, deep when min >= S, "
-			"otherwise straddling (not in frac_deep); a single depth d is [d, d]; one missing end is taken as equal to the other");
+		rc = bc_shift__stamp_zone_rule(t, "not in frac_deep", err);
 	if (rc == BC_OK)
-		rc = bc_output__meta_num(t, S, "level", s->opts.level, 0, err);
-	if (rc == BC_OK)
-		rc = bc_output__meta_text(t, S, "data_sha256", err, "%s", u->data_sha256);
-	if (rc == BC_OK)
-		rc = bc_output__meta_num(t, S, "selected", (double)u->n_selected, 0, err);
-	if (rc == BC_OK && s->opts.has_region)
-		rc = bc_output__meta_num(t, S, "excluded_no_coordinates", (double)u->n_no_coordinates, 0, err);
-	if (rc == BC_OK && s->opts.has_region)
-		rc = bc_output__meta_num(t, S, "excluded_outside_region", (double)u->n_outside_region, 0, err);
+		rc = bc_shift__stamp_data(t, &s->opts, u->data_sha256, u->n_selected, u->n_no_coordinates, u->n_outside_region, err);
 	if (rc == BC_OK)
 		rc = bc_output__meta_num(t, S, "excluded_no_palaeodepth", (double)u->n_no_depth, 0, err);
 	if (rc == BC_OK && s->opts.span == BC_SPAN_MAX)
@@ -1514,6 +1743,14 @@ int bc_shift__stamp(const bc_shift *s, bc_table *t, bc_err *err)
 			s->opts.span == BC_SPAN_SPLIT ? " (fractional counts rounded to the nearest integer for this test only)" : "");
 	if (rc == BC_OK)
 		rc = bc_resample__stamp(s, t, err);
+	if (rc == BC_OK)
+		rc = bc_output__meta_text(t, S, "coverage", err, "per bin, the localities counted in n_localities: n_cells = occupied %g x %g km cells "
+			"of EPSG:6933 (WGS 84 / NSIDC EASE-Grid 2.0 Global, equal-area; grid origin at its 0,0), lat_range_deg = northernmost minus "
+			"southernmost latitude, mst_km = summed geodesic length (WGS 84) of the minimum spanning tree of their distinct points, "
+			"n_unlocated = localities without coordinates (in none of these); mst_km is NA for a bin with more than %d distinct points "
+			"(the tree takes time in the square of the points): %zu bins. A shift between bins whose coverage differs much can be a change "
+			"in where people collected rather than in habitat",
+			s->opts.cell_km, s->opts.cell_km, BC_SHIFT_MST_MAX_POINTS, u->n_bins_mst_skipped);
 	if (rc == BC_OK)
 		rc = bc_output__meta_text(t, S, "caution", err, "%s", CAUTION);
 	return rc;
@@ -1536,6 +1773,7 @@ static const char REFERENCES[] =
 	"Cochran WG (1954) Some methods for strengthening the common chi-square tests. Biometrics 10(4):417-451.\n"
 	"Cohen KM, Finney SC, Gibbard PL, Fan J-X (2013; updated) The ICS International Chronostratigraphic Chart. Episodes 36(3):199-204.\n"
 	"Fisher RA (1935) The Design of Experiments. Oliver and Boyd, Edinburgh.\n"
+	"Karney CFF (2013) Algorithms for geodesics. Journal of Geodesy 87(1):43-55.\n"
 	"Newcombe RG (1998a) Two-sided confidence intervals for the single proportion: comparison of seven methods. Statistics in Medicine 17(8):857-872.\n"
 	"Newcombe RG (1998b) Interval estimation for the difference between independent proportions: comparison of eleven methods. Statistics in Medicine 17(8):873-890.\n"
 	"Wilson EB (1927) Probable inference, the law of succession, and statistical inference. Journal of the American Statistical Association 22(158):209-212.\n";
@@ -1643,6 +1881,12 @@ int bc_shift_write_methods(const bc_shift *s, FILE *f, bc_err *err)
 		bc__buf_printf(&b, "; most likely breakpoint between %s and %s (%g Ma, likelihood-ratio statistic %.2f)", t->break_before, t->break_after, t->break_ma, t->break_lr);
 	if (isfinite(t->trend_z))
 		bc__buf_puts(&b, ". ");
+	bc__buf_printf(&b, "Spatial coverage of each bin is given by its distinct localities: the number of occupied %g x %g km cells of the "
+		"equal-area EASE-Grid 2.0 (EPSG:6933), the latitudinal range, and the length of the minimum spanning tree joining the localities "
+		"(geodesic distances on WGS 84; Karney 2013)", o->cell_km, o->cell_km);
+	if (u->n_bins_mst_skipped)
+		bc__buf_printf(&b, ", which was not computed for %zu bins with more than %d distinct localities", u->n_bins_mst_skipped, BC_SHIFT_MST_MAX_POINTS);
+	bc__buf_puts(&b, "; a change in the deep share between bins that differ much in coverage may reflect where collecting took place rather than habitat. ");
 	bc_resample__methods(s, &b);
 	bc__buf_puts(&b, CAUTION "\n\n");
 	size_t list_at = b.len + strlen("References\n\n");

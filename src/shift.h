@@ -1,13 +1,15 @@
 /*
  * shift.h - private pieces of the shift computation, reusable by later
- * work (resampling draws, reference weighting, figures): the in-memory
- * occurrence assignment, zoning, and one function that counts a given
- * assignment into bins.
+ * work (resampling draws, reference weighting, figures) and for ranges.c:
+ * the selection and stamp lines both tables share, the in-memory occurrence
+ * assignment, zoning, and one function that counts a given assignment
+ * into bins.
  */
 #ifndef BC_SHIFT_H
 #define BC_SHIFT_H
 
 #include "internal.h"
+#include "output.h"
 #include <stdint.h>
 
 /** One selected occurrence with a palaeodepth, as the counting needs it. */
@@ -105,6 +107,72 @@ static inline size_t bc_shift__point_bin(const bc_shift__bin *bins, size_t nbins
 	return nbins;
 }
 
+/* ---- the selection and stamp that shift and ranges share ---------- */
+
+/** One selected row (after --region), as bc_shift__select hands it over.
+ * Strings are borrowed for the call only. */
+typedef struct bc_shift__row {
+	int64_t pk;
+	double older, younger;  /* Ma */
+	double dmin, dmax;      /* m; NaN when not stored */
+	int64_t loc;            /* locality fid, -1 when none */
+	double lon, lat;        /* the locality's WGS 84 coordinates with --region; NaN when none or no region */
+	const char *ref, *art;  /* reference key, articulation class; "" when none */
+	const char *name;       /* the name at the rank asked ("" when none); NULL when no rank */
+} bc_shift__row;
+
+/** Called once per selected row; a non-zero return stops the selection and is returned. */
+typedef int (*bc_shift__row_fn)(void *ctx, const bc_shift__row *row, bc_err *err);
+
+/** What the selection saw. */
+typedef struct bc_shift__selected {
+	size_t n_selected;          /* rows matching group/taxon/preservation */
+	size_t n_no_coordinates;    /* left out by --region: no coordinates */
+	size_t n_outside_region;    /* left out by --region: outside the box */
+	char data_sha256[65];       /* SHA-256 of the rows passed to `fn` (doc/shift.md gives the layout) */
+} bc_shift__selected;
+
+/**
+ * Runs the selection of `o` (group, taxon, preservation, region; doc/shift.md)
+ * in occurrence_pk order and calls `fn` for each row that passes. `rank`
+ * ("genus", "family", "order", "species"; NULL: none) adds the name at that
+ * rank to each row and to the data hash. Returns 0 or the first error.
+ */
+int bc_shift__select(bc_db *db, const bc_shift_options *o, const char *rank, bc_shift__row_fn fn, void *ctx,
+		     bc_shift__selected *out, bc_err *err);
+
+/** One reason occurrences were left out, and how many. */
+typedef struct bc_shift__excluded {
+	size_t n;
+	const char *why;           /* "no palaeodepth" */
+} bc_shift__excluded;
+
+/** Appends "N why, N why" for the reasons with n > 0, comma-separated after any text already in `b`. */
+void bc_shift__excluded_words(bc_buf *b, const bc_shift__excluded *ex, size_t n);
+
+/**
+ * BC_OK when the selection matched rows and `n_left` remain; otherwise
+ * BC_EINVALID with "DB: no occurrences match the selection (...)" or
+ * "DB: N occurrences match the selection (...), but none is left to VERB: reasons".
+ */
+int bc_shift__nothing_left(bc_err *err, const char *db_path, const bc_shift_options *o, size_t n_selected, size_t n_left,
+			   const bc_shift__excluded *ex, size_t nex, const char *verb);
+
+/** The vocabularies in use ("kind name sha256:...; ...") for the stamp. `*out` is the caller's. */
+int bc_shift__vocabs(char **out, bc_db *db, bc_err *err);
+
+/** Replaces a borrowed option string by an owned copy in `*dst`. 0, or -1 when out of memory. */
+int bc_shift__dup_opt(char **dst, const char **field);
+
+/** Stamp lines tool, database, chart (NULL name: "none (bins not from a chart)") and vocabularies. */
+int bc_shift__stamp_source(bc_table *t, const char *db_path, const char *chart_name, const char *chart_source,
+			   const char *vocabs, bc_err *err);
+/** Stamp line zone_rule; `straddling` says where straddling occurrences go. */
+int bc_shift__stamp_zone_rule(bc_table *t, const char *straddling, bc_err *err);
+/** Stamp lines level, data_sha256, selected and (with --region) the region exclusions. */
+int bc_shift__stamp_data(bc_table *t, const bc_shift_options *o, const char *sha256, size_t n_selected,
+			 size_t n_no_coordinates, size_t n_outside_region, bc_err *err);
+
 struct bc_resample;
 
 /** The computed table. Private: resample.c reads the assignment and bins. */
@@ -120,6 +188,7 @@ struct bc_shift {
 	char **refkeys;
 	size_t nref;
 	size_t nloc;
+	double *loc_lon, *loc_lat;  /* per dense locality index: WGS 84 coordinates, NaN when none */
 	bc_shift__bin *bins;        /* the reported span of bins, oldest first */
 	size_t nbins;
 	bc_shift_bin *out;

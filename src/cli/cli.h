@@ -46,7 +46,11 @@ enum {
 	CLI_SHIFT_BINNING = 4u,   /* --bins --span */
 	CLI_SHIFT_ZONING = 8u,    /* --split --zones */
 	CLI_SHIFT_LEVEL = 16u,    /* --level */
-	CLI_SHIFT_ALL = 31u
+	CLI_SHIFT_DRAWS = 32u,    /* --draws --seed --threads --resample */
+	CLI_SHIFT_BOOTSTRAP = 64u, /* --bootstrap */
+	CLI_SHIFT_BIAS = 128u,    /* --weight-references --background --background-with-focal --quota --taphonomy */
+	CLI_SHIFT_COVERAGE = 256u, /* --cell-km */
+	CLI_SHIFT_ALL = 511u
 };
 
 /** What the shared options set. Start from CLI_SHIFT_ARGS_INIT. */
@@ -61,6 +65,8 @@ typedef struct cli_shift_args {
 extern const char cli_shift_help_selection[];
 extern const char cli_shift_help_binning[];
 extern const char cli_shift_help_zoning[];
+extern const char cli_shift_help_draws[];     /* --draws --seed --threads --resample --bootstrap */
+extern const char cli_shift_help_bias[];
 
 /**
  * Splits "--name=value", "--name" or "-n" into the name without dashes
@@ -77,6 +83,8 @@ const char *cli_opt_value(const char *cmd, int argc, char **argv, int *i, const 
  * one of these (the caller handles it), -1 after printing a usage message.
  */
 int cli_shift_arg(const char *cmd, unsigned groups, int argc, char **argv, int *i, cli_shift_args *a);
+/** The CLI_SHIFT_* group of a shared option name (without dashes), or 0. */
+unsigned cli_shift_option_group(const char *name);
 /** After the loop: a database was given, --split and --zones not both. CLI_OK or CLI_USAGE. */
 int cli_shift_args_done(const char *cmd, const cli_shift_args *a);
 

@@ -9,7 +9,7 @@
 #include <string.h>
 
 static const char help_head[] =
-	"usage: bathychron plot DB [selection] [binning] [zoning] [--level L]\n"
+	"usage: bathychron plot DB [selection] [binning] [zoning] [uncertainty] [--level L]\n"
 	"                          -o FILE.svg|FILE.pdf|FILE.png [--width MM] [--older-right]\n"
 	"                          [--title TEXT] [--caption TEXT] [--dpi N]\n"
 	"\n"
@@ -17,6 +17,9 @@ static const char help_head[] =
 	"the deep share per bin with its Wilson interval (hollow points: fewer than 10\n"
 	"shallow + deep occurrences; empty bins are gaps, not zeros), the counts per bin\n"
 	"(deep, shallow, straddling), and a timescale bar in the chart's own colours.\n"
+	"With --draws, a shaded band spans the resampling quantiles of the deep share\n"
+	"and a dashed line their median. The bias options of shift (--weight-references,\n"
+	"--background, --quota, --taphonomy) are not drawn: see 'bathychron shift'.\n"
 	"\n";
 
 static const char help_tail[] =
@@ -43,6 +46,7 @@ static int plot_help(void)
 	fputs(cli_shift_help_selection, stdout);
 	fputs(cli_shift_help_binning, stdout);
 	fputs(cli_shift_help_zoning, stdout);
+	fputs(cli_shift_help_draws, stdout);
 	fputs(help_tail, stdout);
 	return CLI_OK;
 }
@@ -61,7 +65,7 @@ int cmd_plot(int argc, char **argv)
 			po.older_right = 1;
 			continue;
 		}
-		int taken = cli_shift_arg("plot", CLI_SHIFT_ALL, argc, argv, &i, &sa);
+		int taken = cli_shift_arg("plot", CLI_SHIFT_ALL & ~(CLI_SHIFT_BIAS | CLI_SHIFT_COVERAGE), argc, argv, &i, &sa);
 		if (taken < 0)
 			return CLI_USAGE;
 		if (taken)
@@ -69,9 +73,10 @@ int cmd_plot(int argc, char **argv)
 		char namebuf[64];
 		const char *value;
 		const char *name = cli_opt_name(a, namebuf, sizeof namebuf, &value);
+		if (cli_shift_option_group(name) == CLI_SHIFT_BIAS)
+			return cli_usage("plot", "--%s: the figure does not draw it; see 'bathychron shift --%s'", name, name);
 		int known = strcmp(name, "o") == 0 || strcmp(name, "output") == 0 || strcmp(name, "width") == 0 ||
-			    strcmp(name, "title") == 0 || strcmp(name, "caption") == 0 || strcmp(name, "dpi") == 0 ||
-			    strcmp(name, "draws") == 0 || strcmp(name, "seed") == 0;
+			    strcmp(name, "title") == 0 || strcmp(name, "caption") == 0 || strcmp(name, "dpi") == 0;
 		if (!known)
 			return cli_usage("plot", "unknown option '%s'", a);
 		if (!(value = cli_opt_value("plot", argc, argv, &i, value)))
@@ -86,10 +91,8 @@ int cmd_plot(int argc, char **argv)
 				return cli_usage("plot", "--dpi: '%s' is not a resolution between 50 and 2400", value);
 		} else if (strcmp(name, "title") == 0) {
 			po.title = value;
-		} else if (strcmp(name, "caption") == 0) {
-			po.caption = value;
 		} else {
-			return cli_usage("plot", "--%s: resampling draws are not available in this build yet", name);
+			po.caption = value;
 		}
 	}
 	if (cli_shift_args_done("plot", &sa) != CLI_OK)

@@ -12,7 +12,8 @@
 
 static const char help_head[] =
 	"usage: bathychron ranges DB [selection] [--timescale NAME] [zoning] [--rank R]\n"
-	"                            [--level L] [--format F] [-o FILE]\n"
+	"                            [--level L] [--draws N [--seed S] [--threads T]\n"
+	"                            [--resample WHAT]] [--format F] [-o FILE] [--methods]\n"
 	"                            [--figure FILE.svg|.pdf|.png [--width MM] [--older-right]\n"
 	"                             [--title TEXT] [--caption TEXT] [--dpi N]]\n"
 	"\n"
@@ -23,8 +24,9 @@ static const char help_head[] =
 	"shallow range ends before the deep one begins (ends_before), within it\n"
 	"(overlaps) or after it (outlasts), with every relation the age bounds allow.\n"
 	"retreat_supported says whether an end of the shallow range before the deep\n"
-	"one survives the confidence limit. Below the table: counts of taxa by\n"
-	"relation, then the methods stamp.\n"
+	"one survives the confidence limit. With --draws, how often each relation\n"
+	"occurs when ages (and straddling depths) are drawn within their ranges.\n"
+	"Below the table: counts of taxa by relation, then the methods stamp.\n"
 	"\n";
 
 static const char help_tail[] =
@@ -33,10 +35,21 @@ static const char help_tail[] =
 	"Ranges:\n"
 	"  --rank R             genus (default; the genus column, else the first word of\n"
 	"                       scientificName), family, order or scientificName\n"
-	"  --level L            confidence level of the range-end limits (default 0.95)\n"
+	"  --level L            confidence level of the range-end limits (default 0.95);\n"
+	"                       a limit beyond the base of the eon of the oldest horizon\n"
+	"                       is held there, one beyond the present at 0 (ci_capped)\n"
+	"Uncertainty (resampling draws, as for shift; doc/ranges.md):\n"
+	"  --draws N            N draws: each occurrence gets an age uniform within its\n"
+	"                       range and, when its depth range straddles the split, a\n"
+	"                       depth uniform within it; per taxon p_ends_before,\n"
+	"                       p_overlaps, p_outlasts (shares of the draws with both zones)\n"
+	"  --seed S             seed of every random stream (default 1)\n"
+	"  --threads T          worker threads (default: one per processor); never changes results\n"
+	"  --resample WHAT      age,depth (default), age or depth\n"
 	"Output:\n"
 	"  --format F           csv (default), tsv, md, latex, json\n"
 	"  -o FILE              write the table to FILE instead of standard output\n"
+	"  --methods            print a methods paragraph with references instead of the table\n"
 	"  --figure FILE        also draw one row per taxon (shallow and deep bars over\n"
 	"                       the timescale bar), sorted by the last shallow occurrence;\n"
 	"                       SVG, PDF or PNG by extension. --width, --older-right,\n"
@@ -45,7 +58,6 @@ static const char help_tail[] =
 	"Palaeodepths are interpretations; a range end is the last find, not the last\n"
 	"living population; the limits assume horizons scattered at random through the\n"
 	"true range. A 'retreat' carried by one or two occurrences is weak evidence.\n"
-	"Resampling draws (--draws) are not available for ranges in this build.\n"
 	"Exit status: 0 table written, 1 nothing to compare, 2 usage, 3 environment.\n";
 
 static int ranges_help(void)
@@ -64,18 +76,22 @@ int cmd_ranges(int argc, char **argv)
 	bc_plot_options po = BC_PLOT_OPTIONS_INIT;
 	bc_format format = BC_FORMAT_CSV;
 	const char *out_path = NULL, *figure = NULL;
-	int figure_opts = 0;
+	int figure_opts = 0, methods = 0;
 	bc_err err = {0};
 	for (int i = 1; i < argc; i++) {
 		const char *a = argv[i];
 		if (strcmp(a, "--help") == 0 || strcmp(a, "-h") == 0)
 			return ranges_help();
+		if (strcmp(a, "--methods") == 0) {
+			methods = 1;
+			continue;
+		}
 		if (strcmp(a, "--older-right") == 0) {
 			po.older_right = 1;
 			figure_opts = 1;
 			continue;
 		}
-		int taken = cli_shift_arg("ranges", CLI_SHIFT_SELECT | CLI_SHIFT_TIMESCALE | CLI_SHIFT_ZONING | CLI_SHIFT_LEVEL,
+		int taken = cli_shift_arg("ranges", CLI_SHIFT_SELECT | CLI_SHIFT_TIMESCALE | CLI_SHIFT_ZONING | CLI_SHIFT_LEVEL | CLI_SHIFT_DRAWS,
 					  argc, argv, &i, &sa);
 		if (taken < 0)
 			return CLI_USAGE;
@@ -86,8 +102,8 @@ int cmd_ranges(int argc, char **argv)
 		const char *name = cli_opt_name(a, namebuf, sizeof namebuf, &value);
 		if (strcmp(name, "bins") == 0 || strcmp(name, "span") == 0)
 			return cli_usage("ranges", "--%s: ranges are not binned; every occurrence keeps its own age range", name);
-		if (strcmp(name, "draws") == 0 || strcmp(name, "seed") == 0)
-			return cli_usage("ranges", "--%s: resampling draws are not available for ranges in this build", name);
+		if (cli_shift_option_group(name) & (CLI_SHIFT_BOOTSTRAP | CLI_SHIFT_BIAS))
+			return cli_usage("ranges", "--%s: a shift table option; ranges take --draws, --seed, --threads and --resample only", name);
 		int known = strcmp(name, "rank") == 0 || strcmp(name, "format") == 0 || strcmp(name, "o") == 0 ||
 			    strcmp(name, "output") == 0 || strcmp(name, "figure") == 0 || strcmp(name, "width") == 0 ||
 			    strcmp(name, "title") == 0 || strcmp(name, "caption") == 0 || strcmp(name, "dpi") == 0;
@@ -145,7 +161,7 @@ int cmd_ranges(int argc, char **argv)
 		status = CLI_ENV;
 		goto done;
 	}
-	if (bc_ranges_write(r, f, format, &err) != BC_OK)
+	if ((methods ? bc_ranges_write_methods(r, f, &err) : bc_ranges_write(r, f, format, &err)) != BC_OK)
 		status = cli_fail(&err);
 	if (f != stdout && fclose(f) != 0 && status == CLI_OK) {
 		cli_error("%s: writing failed: %s", out_path, strerror(errno));

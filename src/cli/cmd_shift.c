@@ -1,66 +1,29 @@
 /*
  * cmd_shift.c - bathychron shift DB [options]: the occurrence-shift table.
- * Thin: options go to bc_shift_option_set, the work to bc_shift_compute.
+ * Thin: the shared options (shift_options.c) go to bc_shift_option_set,
+ * the work to bc_shift_compute.
  */
 #include "cli.h"
 
 #include <errno.h>
 #include <string.h>
 
-static const char help[] =
-	"usage: bathychron shift DB [selection] [binning] [zoning] [uncertainty] [--format F] [-o FILE] [--methods]\n"
+static const char help_head[] =
+	"usage: bathychron shift DB [selection] [binning] [zoning] [uncertainty] [bias]\n"
+	"                           [--format F] [-o FILE] [--methods]\n"
 	"\n"
 	"Per stratigraphic bin, oldest first: how many selected occurrences were\n"
 	"shallow, deep or straddling the depth boundary, the deep share with a\n"
 	"Wilson interval, the change from the previous bin (Newcombe interval,\n"
-	"Fisher exact p), references, localities and articulation classes; below\n"
-	"the table, trend tests across bins and a methods stamp.\n"
-	"\n"
-	"Selection (combined with AND):\n"
-	"  --group G            taxon group (taxonGroup), case-insensitive\n"
-	"  --taxon NAME         scientific name, genus, family or order, case-insensitive;\n"
-	"                       a genus also matches 'Genus species' names\n"
-	"  --preservation C     articulation class (articulated, partly articulated,\n"
-	"                       disarticulated, unknown) or a preservation term (calyx, ...)\n"
-	"  --region W,S,E,N     locality box in decimal degrees (W > E crosses 180);\n"
-	"                       occurrences without coordinates are left out and counted\n"
-	"Binning:\n"
-	"  --timescale NAME     stored chart (default: the database's default chart)\n"
-	"  --bins B             stage | epoch | period (chart ranks), a width in Myr\n"
-	"                       (edges at multiples of the width from 0 Ma), or a TSV/CSV\n"
-	"                       file of name, older bound, younger bound (Ma). Default stage.\n"
-	"  --span R             age ranges crossing bin edges: majority (default: the bin\n"
-	"                       holding most of the range), all (every bin it overlaps),\n"
-	"                       split (fractional counts by overlap), max:MYR (leave out\n"
-	"                       ranges longer than MYR, majority for the rest)\n"
-	"Zoning (a range [min,max] is shallow when max <= S and min < S, deep when\n"
-	"min >= S, otherwise straddling; a single depth d is [d,d]):\n"
-	"  --split METRES       one boundary (default 200, the conventional shelf edge)\n"
-	"  --zones A,B,...      several boundaries; adds n_zone1.. columns; the fixed\n"
-	"                       columns use the first boundary\n"
-	"Uncertainty and bias (each adds columns, tests and stamp lines; doc/shift.md):\n"
-	"  --draws N            N resampling draws: each occurrence gets an age uniform within\n"
-	"                       its range (so a bin) and, when its depth range straddles the\n"
-	"                       split, a depth uniform within it (so a zone); per bin the median\n"
-	"                       frac_deep and its 2.5/97.5 % quantiles (at --level 0.95), and how\n"
-	"                       often each boundary is the breakpoint. N also sets the replicates\n"
-	"                       of --weight-references and --quota (default 1000)\n"
-	"  --seed S             seed of every random stream (default 1); same seed, same output\n"
-	"                       on any machine and any number of threads\n"
-	"  --threads T          worker threads (default: one per processor); never changes results\n"
-	"  --resample WHAT      age,depth (default), age, depth, or none (bootstrap alone)\n"
-	"  --bootstrap          each draw also resamples the occurrences with replacement, so\n"
-	"                       the band includes sampling error (without it: age/depth only)\n"
-	"  --weight-references  each reference in a bin weighs 1 (a prolific monograph cannot\n"
-	"                       make a shift); interval by bootstrap over references\n"
-	"  --background V       depth affinity against all occurrences of the same bins (the\n"
-	"                       sampled background): binned (expected share weighted by the\n"
-	"                       selection's bins) or pooled; one-sided binomial tests\n"
-	"  --background-with-focal  keep the selection in the background (default: removed)\n"
-	"  --quota N            subsample each bin to N shallow or deep occurrences, repeated;\n"
-	"                       median and quantiles of frac_deep (bins with fewer: NA)\n"
-	"  --taphonomy          repeat on articulated material alone; flag a shift carried by\n"
-	"                       disarticulated material (possibly transported ossicles)\n"
+	"Fisher exact p), references, localities, articulation classes and the\n"
+	"spatial coverage of the localities; below the table, trend tests across\n"
+	"bins and a methods stamp.\n"
+	"\n";
+
+static const char help_tail[] =
+	"Spatial coverage (columns n_cells, lat_range_deg, mst_km, n_unlocated):\n"
+	"  --cell-km KM         edge of the equal-area cells (EPSG:6933) counted in n_cells\n"
+	"                       (default 100); mst_km is NA above 3000 distinct points a bin\n"
 	"Output:\n"
 	"  --table T            bins (default) or taphonomy (the sensitivity table; needs\n"
 	"                       --taphonomy)\n"
@@ -76,12 +39,17 @@ static const char help[] =
 	"uncertainty or transport.\n"
 	"Exit status: 0 table written, 1 nothing to count, 2 usage, 3 environment.\n";
 
-/* The uncertainty and bias options: they take a value and go straight to
- * the library (the shared selection, binning and zoning options are
- * parsed by shift_options.c). */
-static const char *const uncert_opts[] = {"draws", "seed", "threads", "resample", "background", "quota"};
-/* Flags without a value, passed to the library as "yes". */
-static const char *const uncert_flags[] = {"bootstrap", "weight-references", "background-with-focal", "taphonomy"};
+static int shift_help(void)
+{
+	fputs(help_head, stdout);
+	fputs(cli_shift_help_selection, stdout);
+	fputs(cli_shift_help_binning, stdout);
+	fputs(cli_shift_help_zoning, stdout);
+	fputs(cli_shift_help_draws, stdout);
+	fputs(cli_shift_help_bias, stdout);
+	fputs(help_tail, stdout);
+	return CLI_OK;
+}
 
 int cmd_shift(int argc, char **argv)
 {
@@ -93,20 +61,10 @@ int cmd_shift(int argc, char **argv)
 	bc_err err = {0};
 	for (int i = 1; i < argc; i++) {
 		const char *a = argv[i];
-		if (strcmp(a, "--help") == 0 || strcmp(a, "-h") == 0) {
-			fputs(help, stdout);
-			return CLI_OK;
-		}
+		if (strcmp(a, "--help") == 0 || strcmp(a, "-h") == 0)
+			return shift_help();
 		if (strcmp(a, "--methods") == 0) {
 			methods = 1;
-			continue;
-		}
-		int flag = 0;
-		for (size_t k = 0; k < sizeof uncert_flags / sizeof uncert_flags[0]; k++)
-			flag |= strncmp(a, "--", 2) == 0 && strcmp(a + 2, uncert_flags[k]) == 0;
-		if (flag) {
-			if (bc_shift_option_set(&sa.opts, a + 2, "yes", &err) != BC_OK)
-				return cli_usage("shift", "%s", err.msg);
 			continue;
 		}
 		int taken = cli_shift_arg("shift", CLI_SHIFT_ALL, argc, argv, &i, &sa);
@@ -117,10 +75,7 @@ int cmd_shift(int argc, char **argv)
 		char namebuf[64];
 		const char *value;
 		const char *name = cli_opt_name(a, namebuf, sizeof namebuf, &value);
-		int uncert = 0;
-		for (size_t k = 0; k < sizeof uncert_opts / sizeof uncert_opts[0]; k++)
-			uncert |= strcmp(name, uncert_opts[k]) == 0;
-		int known = uncert || strcmp(name, "format") == 0 || strcmp(name, "o") == 0 || strcmp(name, "output") == 0 ||
+		int known = strcmp(name, "format") == 0 || strcmp(name, "o") == 0 || strcmp(name, "output") == 0 ||
 			    strcmp(name, "table") == 0;
 		if (!known)
 			return cli_usage("shift", "unknown option '%s'", a);
@@ -138,8 +93,6 @@ int cmd_shift(int argc, char **argv)
 				taph_table = 1;
 			else
 				return cli_usage("shift", "--table: '%s' is not bins or taphonomy", value);
-		} else if (bc_shift_option_set(&sa.opts, name, value, &err) != BC_OK) {
-			return cli_usage("shift", "%s", err.msg);
 		}
 	}
 	if (cli_shift_args_done("shift", &sa) != CLI_OK)

@@ -1,21 +1,30 @@
 /*
  * shift_options.c - the command-line options that shift, plot and ranges
- * share (selection, binning, zoning, level, the database argument), parsed
- * in one place so the three commands accept exactly the same spellings.
+ * share (selection, binning, zoning, level, resampling draws and bias
+ * checks, the database argument), parsed in one place so the three commands
+ * accept exactly the same spellings.
  */
 #include "cli.h"
 
 #include <string.h>
 
-/* Option names (without dashes) by group; each goes to bc_shift_option_set. */
+/* Option names (without dashes) by group; each goes to bc_shift_option_set.
+ * A flag takes no value and is passed to the library as "yes". */
 static const struct {
 	const char *name;
 	unsigned group;
+	int flag;
 } shift_opts[] = {
-	{"group", CLI_SHIFT_SELECT}, {"taxon", CLI_SHIFT_SELECT}, {"preservation", CLI_SHIFT_SELECT},
-	{"region", CLI_SHIFT_SELECT}, {"timescale", CLI_SHIFT_TIMESCALE}, {"bins", CLI_SHIFT_BINNING},
-	{"span", CLI_SHIFT_BINNING}, {"split", CLI_SHIFT_ZONING}, {"zones", CLI_SHIFT_ZONING},
-	{"level", CLI_SHIFT_LEVEL},
+	{"group", CLI_SHIFT_SELECT, 0}, {"taxon", CLI_SHIFT_SELECT, 0}, {"preservation", CLI_SHIFT_SELECT, 0},
+	{"region", CLI_SHIFT_SELECT, 0}, {"timescale", CLI_SHIFT_TIMESCALE, 0}, {"bins", CLI_SHIFT_BINNING, 0},
+	{"span", CLI_SHIFT_BINNING, 0}, {"split", CLI_SHIFT_ZONING, 0}, {"zones", CLI_SHIFT_ZONING, 0},
+	{"level", CLI_SHIFT_LEVEL, 0}, {"cell-km", CLI_SHIFT_COVERAGE, 0},
+	/* uncertainty: the resampling draws ... */
+	{"draws", CLI_SHIFT_DRAWS, 0}, {"seed", CLI_SHIFT_DRAWS, 0}, {"threads", CLI_SHIFT_DRAWS, 0},
+	{"resample", CLI_SHIFT_DRAWS, 0}, {"bootstrap", CLI_SHIFT_BOOTSTRAP, 1},
+	/* ... and the bias checks of the shift table */
+	{"weight-references", CLI_SHIFT_BIAS, 1}, {"background", CLI_SHIFT_BIAS, 0},
+	{"background-with-focal", CLI_SHIFT_BIAS, 1}, {"quota", CLI_SHIFT_BIAS, 0}, {"taphonomy", CLI_SHIFT_BIAS, 1},
 };
 
 const char cli_shift_help_selection[] =
@@ -46,6 +55,34 @@ const char cli_shift_help_zoning[] =
 	"  --zones A,B,...      several boundaries; adds n_zone1.. columns; the fixed\n"
 	"                       columns use the first boundary\n";
 
+const char cli_shift_help_draws[] =
+	"Uncertainty (resampling draws; doc/shift.md, \"Uncertainty and bias\"):\n"
+	"  --draws N            N resampling draws: each occurrence gets an age uniform within\n"
+	"                       its range (so a bin) and, when its depth range straddles the\n"
+	"                       split, a depth uniform within it (so a zone); per bin the median\n"
+	"                       frac_deep and its 2.5/97.5 % quantiles (at --level 0.95), and how\n"
+	"                       often each boundary is the breakpoint\n"
+	"  --seed S             seed of every random stream (default 1); same seed, same output\n"
+	"                       on any machine and any number of threads\n"
+	"  --threads T          worker threads (default: one per processor); never changes results\n"
+	"  --resample WHAT      age,depth (default), age, depth, or none (bootstrap alone)\n"
+	"  --bootstrap          each draw also resamples the occurrences with replacement, so\n"
+	"                       the band includes sampling error (without it: age/depth only)\n";
+
+const char cli_shift_help_bias[] =
+	"Bias (each adds columns, tests and stamp lines; --draws N also sets their\n"
+	"replicates, default 1000):\n"
+	"  --weight-references  each reference in a bin weighs 1 (a prolific monograph cannot\n"
+	"                       make a shift); interval by bootstrap over references\n"
+	"  --background V       depth affinity against all occurrences of the same bins (the\n"
+	"                       sampled background): binned (expected share weighted by the\n"
+	"                       selection's bins) or pooled; one-sided binomial tests\n"
+	"  --background-with-focal  keep the selection in the background (default: removed)\n"
+	"  --quota N            subsample each bin to N shallow or deep occurrences, repeated;\n"
+	"                       median and quantiles of frac_deep (bins with fewer: NA)\n"
+	"  --taphonomy          repeat on articulated material alone; flag a shift carried by\n"
+	"                       disarticulated material (possibly transported ossicles)\n";
+
 const char *cli_opt_name(const char *arg, char *buf, size_t cap, const char **value)
 {
 	const char *name = arg[0] == '-' ? (arg[1] == '-' ? arg + 2 : arg + 1) : arg;
@@ -71,6 +108,14 @@ const char *cli_opt_value(const char *cmd, int argc, char **argv, int *i, const 
 	return argv[++*i];
 }
 
+unsigned cli_shift_option_group(const char *name)
+{
+	for (size_t k = 0; k < sizeof shift_opts / sizeof shift_opts[0]; k++)
+		if (strcmp(name, shift_opts[k].name) == 0)
+			return shift_opts[k].group;
+	return 0;
+}
+
 int cli_shift_arg(const char *cmd, unsigned groups, int argc, char **argv, int *i, cli_shift_args *a)
 {
 	const char *arg = argv[*i];
@@ -90,7 +135,13 @@ int cli_shift_arg(const char *cmd, unsigned groups, int argc, char **argv, int *
 			continue;
 		if (!(groups & shift_opts[k].group))
 			return 0; /* the caller says why it does not take this option */
-		if (!(value = cli_opt_value(cmd, argc, argv, i, value)))
+		if (shift_opts[k].flag && value) {
+			cli_usage(cmd, "--%s takes no value", name);
+			return -1;
+		}
+		if (shift_opts[k].flag)
+			value = "yes";
+		else if (!(value = cli_opt_value(cmd, argc, argv, i, value)))
 			return -1;
 		bc_err err = {0};
 		a->have_split |= strcmp(name, "split") == 0;

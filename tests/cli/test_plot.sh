@@ -27,6 +27,21 @@ UNION ALL
 SELECT 1, 300 + i, 'Bus cus', 'Bus', 'crinoids', 'Danian', 'Danian', 66.0, 61.66, 'exact', 'ics-2024-12',
   CASE WHEN i <= 5 THEN 300 ELSE 100 END, CASE WHEN i <= 5 THEN 800 ELSE 180 END, '', 'Ref6', 2 FROM c WHERE i <= 8;
 " || { fail plot_setup "sqlite3 failed"; exit 0; }
+# Invented echinoids whose age ranges cross stage boundaries and whose depth
+# ranges partly straddle 200 m, so resampling draws give a band of width.
+sqlite3 "$DB" "
+WITH RECURSIVE c(i) AS (SELECT 1 UNION ALL SELECT i + 1 FROM c WHERE i < 30)
+INSERT INTO occurrences(batch_id, line, scientific_name, genus, taxon_group, age_from, age_to, older_ma, younger_ma, age_status, timescale,
+  min_depth_m, max_depth_m, articulation, reference_key, locality_id)
+SELECT 1, 400 + i, 'Cus dus', 'Cus', 'echinoids', 'Santonian', 'Campanian', 85.7, 72.2, 'range', 'ics-2024-12',
+  CASE WHEN i <= 12 THEN 100 ELSE 20 END, CASE WHEN i <= 12 THEN 400 ELSE 80 END, '', 'Ref7', 1 FROM c
+UNION ALL
+SELECT 1, 500 + i, 'Cus dus', 'Cus', 'echinoids', 'Campanian', 'Maastrichtian', 83.6, 66.0, 'range', 'ics-2024-12',
+  CASE WHEN i <= 18 THEN 150 ELSE 250 END, CASE WHEN i <= 18 THEN 300 ELSE 600 END, '', 'Ref8', 2 FROM c
+UNION ALL
+SELECT 1, 600 + i, 'Cus dus', 'Cus', 'echinoids', 'Maastrichtian', 'Danian', 72.2, 61.66, 'range', 'ics-2024-12',
+  CASE WHEN i <= 10 THEN 300 ELSE 40 END, CASE WHEN i <= 10 THEN 700 ELSE 90 END, '', 'Ref9', 3 FROM c;
+" || { fail plot_setup "sqlite3 failed (echinoids)"; exit 0; }
 
 expect_status 0 plot_help $BC plot --help
 contains plot_help_text "$T/out" "usage: bathychron plot DB"
@@ -94,19 +109,9 @@ jurassic=$(colour Jurassic)
 if [ -n "$campanian" ] && [ -n "$cretaceous" ] && [ -n "$jurassic" ]; then ok plot_chart_colours_listed
 else fail plot_chart_colours_listed "Campanian '$campanian' Cretaceous '$cretaceous' Jurassic '$jurassic'"; fi
 pdftoppm -r 100 -singlefile "$T/f.pdf" "$T/pdf" 2>/dev/null || fail plot_pdf_render "pdftoppm failed"
-if $PY - "$T" "$campanian" "$cretaceous" "$jurassic" >"$T/py" 2>&1 <<'EOF'
-import re, struct, sys, zlib
-d, inview, out = sys.argv[1], sys.argv[2:4], sys.argv[4]
-rgb = lambda h: tuple(int(h[i:i + 2], 16) for i in (1, 3, 5))
-
-def svg_colour(h):
-    # cairo's SVG surface: rgb(R%,G%,B%) with each channel * 100 / 255
-    return "rgb(%s)" % ",".join(("%.6f" % (c * 100 / 255)).rstrip("0").rstrip(".") + "%" for c in rgb(h))
-
-svg = open(d + "/f.svg").read()
-for h in inview:
-    assert svg_colour(h) in svg, ("svg lacks", h, svg_colour(h))
-assert svg_colour(out) not in svg, ("svg has out-of-view colour", out)
+# A plain PNG decoder (ISO/IEC 15948), shared by the checks below.
+cat >"$T/pngread.py" <<'EOF'
+import struct, zlib
 
 def png_pixels(path):
     # PNG (ISO/IEC 15948): signature, IHDR, IDAT zlib stream, per-row filters
@@ -140,6 +145,23 @@ def png_pixels(path):
         px.update(bytes(row[i:i + 3]) for i in range(0, stride, bpp))
         prev = row
     return (w, h), px
+EOF
+if $PY - "$T" "$campanian" "$cretaceous" "$jurassic" >"$T/py" 2>&1 <<'EOF'
+import re, sys
+d, inview, out = sys.argv[1], sys.argv[2:4], sys.argv[4]
+sys.path.insert(0, d)
+rgb = lambda h: tuple(int(h[i:i + 2], 16) for i in (1, 3, 5))
+
+def svg_colour(h):
+    # cairo's SVG surface: rgb(R%,G%,B%) with each channel * 100 / 255
+    return "rgb(%s)" % ",".join(("%.6f" % (c * 100 / 255)).rstrip("0").rstrip(".") + "%" for c in rgb(h))
+
+svg = open(d + "/f.svg").read()
+for h in inview:
+    assert svg_colour(h) in svg, ("svg lacks", h, svg_colour(h))
+assert svg_colour(out) not in svg, ("svg has out-of-view colour", out)
+
+from pngread import png_pixels
 
 (w, h), px = png_pixels(d + "/f.png")
 # 85 mm at 300 dpi: 85 / 25.4 * 300 = 1003.9 -> 1004 pixels
@@ -170,3 +192,55 @@ expect_status 0 plot_own_caption $BC plot "$DB" -o "$T/c.pdf" --caption "Figure 
 pdftotext "$T/c.pdf" - 2>/dev/null | tr '\n' ' ' >"$T/text2"
 contains plot_own_caption_text "$T/text2" "Figure 2. Invented data."
 if grep -q "selection:" "$T/text2"; then fail plot_own_caption_replaces "default caption still present"; else ok plot_own_caption_replaces; fi
+
+# Resampling draws: the uncertainty options of shift, parsed by the same
+# table (shift_options.c). The band is drawn in the tint of Okabe-Ito orange
+# (0xE69F00 at 40 % over white = 0xF5D999, see plot.c) with the median dashed.
+expect_status 0 plot_help_draws $BC plot --help
+contains plot_help_lists_draws "$T/out" "--draws N            N resampling draws"
+contains plot_help_lists_bootstrap "$T/out" "--bootstrap          each draw also resamples"
+expect_status 2 plot_bias_refused $BC plot "$DB" -o "$T/w.svg" --quota 5
+same_text plot_bias_refused_message "$T/err" "bathychron: plot: --quota: the figure does not draw it; see 'bathychron shift --quota'
+(see 'bathychron plot --help')"
+expect_status 2 plot_bad_draws $BC plot "$DB" -o "$T/w.svg" --draws 0
+same_text plot_bad_draws_message "$T/err" "bathychron: plot: --draws: '0' is not a number of draws from 1 to 1000000
+(see 'bathychron plot --help')"
+expect_status 2 plot_bootstrap_needs_draws $BC plot "$DB" -o "$T/w.svg" --bootstrap
+expect_status 0 plot_band_svg $BC plot "$DB" --group echinoids --draws 400 --seed 3 --threads 1 -o "$T/band.svg"
+expect_status 0 plot_band_svg_again $BC plot "$DB" --group echinoids --draws 400 --seed 3 --threads 3 -o "$T/band2.svg"
+expect_status 0 plot_band_other_seed $BC plot "$DB" --group echinoids --draws 400 --seed 4 -o "$T/band4.svg"
+expect_status 0 plot_band_png $BC plot "$DB" --group echinoids --draws 400 --seed 3 -o "$T/band.png"
+expect_status 0 plot_band_pdf $BC plot "$DB" --group echinoids --draws 400 --seed 3 -o "$T/band.pdf"
+expect_status 0 plot_band_bootstrap $BC plot "$DB" --group echinoids --draws 300 --bootstrap --resample none -o "$T/boot.pdf"
+expect_status 0 plot_no_band_svg $BC plot "$DB" --group echinoids -o "$T/noband.svg"
+if cmp -s "$T/band.svg" "$T/band2.svg"; then ok plot_band_same_seed_identical_svg
+else fail plot_band_same_seed_identical_svg "the same seed (1 and 3 threads) gave different SVG files"; fi
+if cmp -s "$T/band.svg" "$T/band4.svg"; then fail plot_band_seed_matters "seeds 3 and 4 gave the same SVG"
+else ok plot_band_seed_matters; fi
+if $PY - "$T" >"$T/py" 2>&1 <<'EOF'
+import sys
+d = sys.argv[1]
+sys.path.insert(0, d)
+from pngread import png_pixels
+band = "rgb(96.078431%,85.098039%,60%)"   # 0xF5D999 as cairo writes it in SVG
+median = "rgb(83.529412%,36.862745%,0%)"  # Okabe-Ito vermillion 0xD55E00
+svg = open(d + "/band.svg").read()
+assert svg.count(band) >= 2, "band fill (figure and legend) missing from the SVG"
+assert median in svg, "dashed median missing from the SVG"
+assert band not in open(d + "/noband.svg").read(), "band colour without --draws"
+(w, h), px = png_pixels(d + "/band.png")
+assert bytes((0xF5, 0xD9, 0x99)) in px, "band colour not among the PNG's pixels"
+EOF
+then ok plot_band_colour_drawn; else fail plot_band_colour_drawn "$(tail -c 400 "$T/py")"; fi
+# The band's numbers are the table's: shift with the same options.
+$BC shift "$DB" --group echinoids --draws 400 --seed 3 >"$T/band.csv" 2>&1
+contains plot_band_from_table "$T/band.csv" "Campanian,83.6,72.2,60,18,12,30,0.4,"
+pdftotext "$T/band.pdf" - 2>/dev/null | tr '\n' ' ' | tr -s ' ' >"$T/btext"
+contains plot_band_caption_draws "$T/btext" "quantiles of the deep share over 400 resampling draws (seed 3)"
+contains plot_band_caption_what "$T/btext" "each age was drawn uniformly within its age range and each depth range crossing 200 m"
+contains plot_band_caption_no_sampling "$T/btext" "The band shows age and depth uncertainty only, not sampling error."
+contains plot_band_legend "$T/btext" "Resampling 2.5-97.5 % (dashed: median)"
+pdftotext "$T/boot.pdf" - 2>/dev/null | tr '\n' ' ' | tr -s ' ' >"$T/btext2"
+contains plot_band_caption_bootstrap "$T/btext2" "in which the occurrences were resampled with replacement (bootstrap)"
+if grep -q "not sampling error" "$T/btext2"; then fail plot_band_bootstrap_no_disclaimer "bootstrap caption says no sampling error"
+else ok plot_band_bootstrap_no_disclaimer; fi

@@ -159,8 +159,10 @@ contains shift_latex_stamp "$T/out" "% stamp.tool: bathychron"
 
 # Zones, span rules, region, a bins file.
 expect_status 0 shift_zones $BC shift "$DB" --bins 5 --zones 200,300 --group crinoids
-head -n 1 "$T/out" | tr "," "\n" | tail -n 4 | paste -s -d " " - >"$T/head"
+head -n 1 "$T/out" | tr "," "\n" | sed -n '21,24p' | paste -s -d " " - >"$T/head"
 same_text shift_zone_columns "$T/head" "n_zone1 n_zone2 n_zone3 n_zone_straddle"
+head -n 1 "$T/out" | tr "," "\n" | tail -n 4 | paste -s -d " " - >"$T/head"
+same_text shift_coverage_columns_last "$T/head" "n_cells lat_range_deg mst_km n_unlocated"
 expect_status 0 shift_region $BC shift "$DB" --bins 5 --region 0,40,10,50
 contains shift_region_counts "$T/out" "# stamp.excluded_no_coordinates: 272"
 contains shift_region_outside "$T/out" "# stamp.excluded_outside_region: 70"
@@ -184,3 +186,66 @@ contains shift_methods_refs "$T/out" "Armitage P (1955) Tests for linear trends 
 # Stage bins from the database's default chart.
 expect_status 0 shift_stage_bins $BC shift "$DB" --group crinoids
 contains shift_stage_bins_ypresian "$T/out" "Ypresian,"
+
+# Spatial coverage per bin, recomputed outside the program: cells from PROJ's
+# cs2cs (EPSG:4326 -> EPSG:6933, floor of metres / cell), tree lengths by
+# Prim's algorithm on GeographicLib's GeodSolve -i distances.
+C="$T/cov.gpkg"
+$BC init "$C" >/dev/null 2>&1
+sqlite3 "$C" "
+INSERT INTO import_batches(kind, file, sha256, tool_version) VALUES ('occurrences', 'invented.csv', 'x', 'test');
+INSERT INTO localities(fid, name, longitude, latitude) VALUES (1, 'A', 5.5, 45.2), (2, 'B', 7.25, 46.9), (3, 'C', -3.1, 40.4),
+  (4, 'D', 12.0, 55.6), (5, 'E', 5.5, 45.2), (6, 'F', NULL, NULL), (7, 'G', 150.2, -33.9), (8, 'H', -70.6, -33.4);
+INSERT INTO occurrences(batch_id, line, scientific_name, taxon_group, older_ma, younger_ma, age_status, timescale, min_depth_m, max_depth_m, locality_id)
+VALUES (1, 1, 'Aus bus', 'crinoids', 80, 79, 'numeric', 'x', 10, 20, 1), (1, 2, 'Aus bus', 'crinoids', 80, 79, 'numeric', 'x', 300, 400, 2),
+  (1, 3, 'Aus bus', 'crinoids', 78, 77, 'numeric', 'x', 10, 20, 3), (1, 4, 'Aus bus', 'crinoids', 76, 75, 'numeric', 'x', 10, 20, 4),
+  (1, 5, 'Aus bus', 'crinoids', 76, 75, 'numeric', 'x', 10, 20, 5), (1, 6, 'Aus bus', 'crinoids', 76, 75, 'numeric', 'x', 10, 20, 6),
+  (1, 7, 'Aus bus', 'crinoids', 70, 69, 'numeric', 'x', 300, 400, 7), (1, 8, 'Aus bus', 'crinoids', 70, 69, 'numeric', 'x', 10, 20, 8),
+  (1, 9, 'Aus bus', 'crinoids', 70, 69, 'numeric', 'x', 10, 20, 1);"
+for km in 100 700; do
+	expect_status 0 "shift_coverage_$km" $BC shift "$C" --bins stage --cell-km $km
+	cp "$T/out" "$T/cov$km.csv"
+done
+if $PY - "$C" "$T/cov100.csv" "$T/cov700.csv" >"$T/py" 2>&1 <<'PYEOF'
+import math, sqlite3, subprocess, sys
+import pandas as pd
+con = sqlite3.connect(sys.argv[1])
+def proj(pts):
+    out = subprocess.run(["cs2cs", "-f", "%.6f", "EPSG:4326", "EPSG:6933"], input="".join("%r %r\n" % (la, lo) for lo, la in pts),
+                         capture_output=True, text=True, check=True).stdout.split("\n")
+    return [tuple(float(v) for v in l.split()[:2]) for l in out if l.strip()]
+def geod(a, b):
+    out = subprocess.run(["GeodSolve", "-i", "-p", "9"], input="%r %r %r %r\n" % (a[1], a[0], b[1], b[0]),
+                         capture_output=True, text=True, check=True).stdout.split()
+    return float(out[2])
+def mst(pts):
+    if len(pts) < 2:
+        return 0.0
+    inside, best, total = {0}, {j: geod(pts[0], pts[j]) for j in range(1, len(pts))}, 0.0
+    while best:
+        j = min(best, key=best.get)
+        total += best.pop(j)
+        for k in best:
+            best[k] = min(best[k], geod(pts[j], pts[k]))
+    return total / 1000
+for path, km in ((sys.argv[2], 100), (sys.argv[3], 700)):
+    df = pd.read_csv(path, comment="#", keep_default_na=False, na_values=["NA"]).set_index("bin")
+    for b, row in df.iterrows():
+        locs = con.execute("SELECT DISTINCT l.fid, l.longitude, l.latitude FROM occurrences o JOIN localities l ON l.fid = o.locality_id"
+                           " WHERE o.older_ma <= ? AND o.younger_ma >= ?", (row.older_ma, row.younger_ma)).fetchall()
+        pts = sorted({(lo, la) for _, lo, la in locs if lo is not None})
+        assert row.n_localities == len(locs) and row.n_unlocated == sum(lo is None for _, lo, _ in locs), (b, row)
+        xy = proj(pts) if pts else []
+        cells = {(math.floor(x / (km * 1000)), math.floor(y / (km * 1000))) for x, y in xy}
+        assert row.n_cells == len(cells), (b, km, row.n_cells, cells)
+        if pts:
+            assert abs(row.lat_range_deg - (max(p[1] for p in pts) - min(p[1] for p in pts))) < 1e-9
+        assert abs(row.mst_km - mst(pts)) <= 1e-9 * max(1.0, row.mst_km), (b, row.mst_km, mst(pts))
+PYEOF
+then ok shift_coverage_matches_proj_and_geographiclib; else fail shift_coverage_matches_proj_and_geographiclib "$(tail -c 600 "$T/py")"; fi
+contains shift_coverage_stamp "$T/cov700.csv" "# stamp.coverage: per bin, the localities counted in n_localities: n_cells = occupied 700 x 700 km cells of EPSG:6933"
+contains shift_coverage_option_stamped "$T/cov700.csv" "--cell-km 700"
+expect_status 2 shift_bad_cell_km $BC shift "$C" --cell-km 0
+expect_status 2 plot_no_cell_km $BC plot "$C" --cell-km 50 -o "$T/c.svg"
+expect_status 0 shift_coverage_methods $BC shift "$C" --methods
+contains shift_coverage_in_methods "$T/out" "Spatial coverage of each bin is given by its distinct localities"

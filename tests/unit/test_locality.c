@@ -249,7 +249,7 @@ TEST(coverage_points_hand_checked)
 
 	double lon2[] = {0, 1, 2, -1};
 	double lat2[] = {0, 0, 0, 0};
-	bc_coverage_options o = {50};
+	bc_coverage_options o = {50, 0};
 	CHECK_OK(bc_coverage_points(&cv, lon2, lat2, 3, &o, &err), &err);
 	CHECK_INT(cv.n_cells, 3); /* x = 0, 96.5, 193.0 km -> cells 0, 1, 3 of 50 km */
 	CHECK_NEAR(cv.mst_km, 2 * 111319.490793 / 1000, 1e-9);

@@ -147,6 +147,13 @@ TEST(ranges_hand_checked_set)
 	CHECK_INT(e->relation, BC_RANGE_OUTLASTS);
 	CHECK_STR(e->shallow.first_interval, "Turonian-Coniacian");
 	CHECK_NEAR(e->shallow.last_ci_ma, 0.0, 0); /* 59.5 - 19 * 30 < 0: held at the present */
+	/* 89.5 + 19 * 30 = 659.5 Ma reaches beyond the Phanerozoic, the eon of
+	 * the oldest horizon: held at its base, 538.8 Ma in ICS 2024-12 */
+	CHECK_NEAR(e->shallow.first_ci_ma, 538.8, 1e-9);
+	CHECK_INT(e->shallow.ci_capped, BC_RANGE_CAPPED_FIRST | BC_RANGE_CAPPED_LAST);
+	CHECK_INT(b->shallow.ci_capped, 0);
+	CHECK_INT(a->deep.ci_capped, 0);
+	CHECK(!b->has_draws && isnan(b->p_ends_before));
 
 	const bc_range_taxon *z = find(r, "Zetacrinus"); /* genus from 'Zetacrinus sp.' */
 	CHECK(z);
@@ -162,6 +169,101 @@ TEST(ranges_hand_checked_set)
 	CHECK_INT(u->n_retreat_supported, 1);
 	CHECK_INT(u->n_retreat_weak, 1);
 	bc_ranges_free(r);
+}
+
+/* The cap on a first-occurrence limit: the older bound of the eon holding
+ * the oldest horizon (ICS 2024-12: Phanerozoic 538.8 Ma, Proterozoic
+ * 2500 Ma), an older bound belonging to the interval below it; beyond the
+ * chart, none. */
+TEST(ranges_first_cap)
+{
+	bc_err err = {0};
+	bc_chart *c = NULL;
+	CHECK_OK(bc_chart_builtin(&c, "ics-2024-12", &err), &err);
+	double a = bc_ranges__first_cap(c, 89.5), b = bc_ranges__first_cap(c, 538.8), d = bc_ranges__first_cap(c, 600);
+	double e = bc_ranges__first_cap(c, 1e6), f = bc_ranges__first_cap(NULL, 89.5);
+	bc_chart_free(c);
+	CHECK_NEAR(a, 538.8, 1e-9);
+	CHECK_NEAR(b, 538.8, 1e-9);
+	CHECK_NEAR(d, 2500, 1e-9);
+	CHECK(isinf(e) && isinf(f));
+}
+
+static bc_ranges *drawn(bc_db *db, const char *draws, const char *seed, const char *threads, const char *resample, bc_err *err)
+{
+	bc_ranges_options o = BC_RANGES_OPTIONS_INIT;
+	bc_ranges *r = NULL;
+	o.sel.group = "crinoids";
+	if (bc_ranges_option_set(&o, "draws", draws, err) || bc_ranges_option_set(&o, "seed", seed, err) ||
+	    bc_ranges_option_set(&o, "threads", threads, err) || bc_ranges_option_set(&o, "resample", resample, err) ||
+	    bc_ranges_compute(&r, db, &o, err))
+		return NULL;
+	return r;
+}
+
+/* How often each relation occurs when ages are drawn within their ranges.
+ * Deltacrinus (hand-derived): the last shallow age s ~ U(70, 80) and the one
+ * deep age t ~ U(65, 75); outlasts when s < t: P = integral over t in
+ * (70, 75) of (t - 70)/10 dt/10 = 12.5/100 = 0.125; ends before otherwise
+ * (s = t has probability 0). The other taxa have one relation whatever the
+ * draw. Binomial tolerance: 5 standard errors at 20000 draws. */
+TEST(ranges_draws_relation_shares)
+{
+	bc_err err = {0};
+	bc_db *db = hand_db();
+	CHECK(db);
+	bc_ranges *r = drawn(db, "20000", "7", "2", "age,depth", &err);
+	bc_ranges *r1 = drawn(db, "20000", "7", "1", "age,depth", &err);
+	bc_ranges *r2 = drawn(db, "20000", "8", "3", "age,depth", &err);
+	bc_ranges *ra = drawn(db, "100", "7", "0", "age", &err);
+	bc_db_close(db);
+	CHECK_MSG(r && r1 && r2 && ra, "%s", err.msg);
+	const bc_range_taxon *d = find(r, "Deltacrinus");
+	double se = sqrt(0.125 * 0.875 / 20000);
+	int ok = d->has_draws && fabs(d->p_outlasts - 0.125) < 5 * se && fabs(d->p_ends_before - 0.875) < 5 * se &&
+		 d->p_overlaps == 0 && d->draws_both == 1;
+	double pd = d->p_outlasts, p1 = find(r1, "Deltacrinus")->p_outlasts, p2 = find(r2, "Deltacrinus")->p_outlasts;
+	int certain = find(r, "Alphacrinus")->p_overlaps == 1 && find(r, "Betacrinus")->p_ends_before == 1 &&
+		      find(r, "Epsiloncrinus")->p_outlasts == 1;
+	const bc_range_taxon *g = find(r, "Gammacrinus");
+	int gamma = g->has_draws && g->draws_both == 0 && isnan(g->p_ends_before);
+	const bc_ranges_summary *u = bc_ranges_summary_get(r), *ua = bc_ranges_summary_get(ra);
+	size_t n_draws = u->n_draws, depths = u->n_depth_drawn, depths_a = ua->n_depth_drawn, ages = u->n_age_drawn;
+	bc_ranges_free(r);
+	bc_ranges_free(r1);
+	bc_ranges_free(r2);
+	bc_ranges_free(ra);
+	CHECK_MSG(ok, "Deltacrinus %g %g %g", pd, 1 - pd, se);
+	CHECK(certain);
+	CHECK(gamma);
+	CHECK(pd == p1); /* the same seed on 2 and 1 threads */
+	CHECK(pd != p2); /* another seed */
+	CHECK_INT(n_draws, 20000);
+	CHECK_INT(depths, 1);   /* Alphacrinus' 150-250 m occurrence */
+	CHECK_INT(depths_a, 0); /* --resample age */
+	CHECK_INT(ages, 26);    /* every used age range is wider than a point */
+}
+
+TEST(ranges_draws_options_refused)
+{
+	bc_err err = {0};
+	bc_db *db = hand_db();
+	CHECK(db);
+	bc_ranges_options o = BC_RANGES_OPTIONS_INIT;
+	bc_ranges *r = NULL;
+	o.sel.draws = 10;
+	o.sel.bootstrap = 1;
+	int rc1 = bc_ranges_compute(&r, db, &o, &err);
+	char m1[sizeof err.msg];
+	snprintf(m1, sizeof m1, "%s", err.msg);
+	o.sel.bootstrap = 0;
+	o.sel.resample = 0;
+	int rc2 = bc_ranges_compute(&r, db, &o, &err);
+	bc_db_close(db);
+	CHECK_INT(rc1, BC_EUSAGE);
+	CHECK_STR(m1, "--bootstrap: a shift table option; ranges take --draws, --seed, --threads and --resample only");
+	CHECK_INT(rc2, BC_EUSAGE);
+	CHECK(r == NULL);
 }
 
 TEST(ranges_rank_zones_and_output)
@@ -238,6 +340,7 @@ TEST(ranges_allocation_failures)
 	bc_db *db = hand_db();
 	CHECK(db);
 	bc_ranges_options o = BC_RANGES_OPTIONS_INIT;
+	o.sel.draws = 20; /* the draws' allocations too */
 	int saw_oom = 0;
 	for (long k = 1; k < 400; k++) {
 		bc_err err = {0};

@@ -440,4 +440,124 @@ TEST(shift_option_errors)
 	CHECK_NEAR(o.span_max_myr, 12.5, 0);
 	CHECK_OK(bc_shift_option_set(&o, "bins", "series", &err), &err);
 	CHECK_INT(o.bins, BC_BINS_EPOCH);
+	CHECK_NEAR(o.cell_km, 100, 0);
+	CHECK_INT(bc_shift_option_set(&o, "cell-km", "0", &err), BC_EUSAGE);
+	CHECK_STR(err.msg, "--cell-km: '0' is not a cell size in km between 0 and 20000, e.g. 100");
+	CHECK_OK(bc_shift_option_set(&o, "cell-km", "250", &err), &err);
+	CHECK_NEAR(o.cell_km, 250, 0);
+}
+
+/* Spatial coverage per bin on hand-checked localities. Campanian: three
+ * localities on the Greenwich meridian at 0, 1 and 2 degrees N (one of them
+ * twice) and one without coordinates. GeographicLib's GeodSolve -i gives
+ * 110574.388558 m (0-1 N) and 110575.064814 m (1-2 N), so the tree is
+ * 221.149453 km; cs2cs EPSG:4326 EPSG:6933 puts them at y = 0, 127566.985
+ * and 255096.152 m, so three 100 km cells and one 1000 km cell.
+ * Maastrichtian: two localities at the same point: one cell, no length,
+ * range 0. Danian: only a locality without coordinates. */
+static bc_db *coverage_db(void)
+{
+	bc_db *db = new_db();
+	if (!db)
+		return NULL;
+	if (sqlite3_exec(bc_db__sqlite(db),
+		"INSERT INTO localities(fid, name, longitude, latitude) VALUES (10, 'E0', 0, 0), (11, 'E1', 0, 1), (12, 'E2', 0, 2),"
+		" (13, 'Unmapped', NULL, NULL), (14, 'Twin A', 10, 20), (15, 'Twin B', 10, 20);",
+		NULL, NULL, NULL) != SQLITE_OK) {
+		bc_db_close(db);
+		return NULL;
+	}
+	static const struct { double o, y; int loc; } occ[] = {
+		{80, 79, 10}, {80, 79, 10}, {78, 77, 11}, {76, 75, 12}, {75, 74, 13},
+		{70, 69, 14}, {69, 68, 15}, {64, 63, 3},
+	};
+	for (size_t i = 0; i < sizeof occ / sizeof occ[0]; i++)
+		if (add(db, "Aus bus", "crinoids", occ[i].o, occ[i].y, 20, 50, "articulated", "R1", occ[i].loc)) {
+			bc_db_close(db);
+			return NULL;
+		}
+	return db;
+}
+
+TEST(shift_spatial_coverage_per_bin)
+{
+	bc_db *db = coverage_db();
+	bc_chart *chart = small_chart();
+	bc_shift *s = NULL, *s2 = NULL;
+	bc_err err = {0};
+	bc_shift_options o = BC_SHIFT_OPTIONS_INIT;
+	o.chart = chart;
+	int rc = db && chart ? bc_shift_compute(&s, db, &o, &err) : -1;
+	if (rc == BC_OK) {
+		rc = bc_shift_option_set(&o, "cell-km", "1000", &err);
+		if (rc == BC_OK)
+			rc = bc_shift_compute(&s2, db, &o, &err);
+	}
+	bc_db_close(db);
+	bc_chart_free(chart);
+	if (rc) {
+		bc_shift_free(s);
+		bc_shift_free(s2);
+	}
+	CHECK_OK(rc, &err);
+	const bc_shift_bin *c = bc_shift_bin_at(s, 0), *m = bc_shift_bin_at(s, 1), *d = bc_shift_bin_at(s, 2);
+	const bc_shift_bin *c2 = bc_shift_bin_at(s2, 0);
+	size_t c_loc = c->n_localities, c_unloc = c->n_unlocated, c_cells = c->n_cells, c2_cells = c2->n_cells;
+	double c_lat = c->lat_range_deg, c_mst = c->mst_km, c2_mst = c2->mst_km;
+	size_t m_loc = m->n_localities, m_cells = m->n_cells, d_cells = d->n_cells, d_unloc = d->n_unlocated;
+	double m_lat = m->lat_range_deg, m_mst = m->mst_km, d_lat = d->lat_range_deg, d_mst = d->mst_km;
+	size_t skipped = bc_shift_summary_get(s)->n_bins_mst_skipped;
+	bc_shift_free(s);
+	bc_shift_free(s2);
+	CHECK_INT(c_loc, 4);
+	CHECK_INT(c_unloc, 1);
+	CHECK_INT(c_cells, 3);
+	CHECK_INT(c2_cells, 1);
+	CHECK_NEAR(c_lat, 2.0, 1e-12);
+	CHECK_NEAR(c_mst, 221.149453372, 1e-6);
+	CHECK_NEAR(c2_mst, c_mst, 0); /* the cell size changes only n_cells */
+	CHECK_INT(m_loc, 2);
+	CHECK_INT(m_cells, 1);
+	CHECK_NEAR(m_lat, 0.0, 0);
+	CHECK_NEAR(m_mst, 0.0, 0);
+	CHECK_INT(d_cells, 0);
+	CHECK_INT(d_unloc, 1);
+	CHECK(isnan(d_lat));
+	CHECK_NEAR(d_mst, 0.0, 0);
+	CHECK_INT(skipped, 0);
+}
+
+/* More distinct points than BC_SHIFT_MST_MAX_POINTS in a bin: no tree
+ * (NaN) and the summary counts the bin; cells and latitudes still come. */
+TEST(shift_spatial_coverage_tree_cap)
+{
+	bc_db *db = new_db();
+	bc_chart *chart = small_chart();
+	bc_shift *s = NULL;
+	bc_err err = {0};
+	char sql[700];
+	snprintf(sql, sizeof sql,
+		"WITH RECURSIVE c(i) AS (SELECT 1 UNION ALL SELECT i + 1 FROM c WHERE i < %d)"
+		" INSERT INTO localities(fid, name, longitude, latitude) SELECT 100 + i, 'P' || i, -15 + i * 0.005, 0 FROM c;"
+		"WITH RECURSIVE c(i) AS (SELECT 1 UNION ALL SELECT i + 1 FROM c WHERE i < %d)"
+		" INSERT INTO occurrences(batch_id, line, scientific_name, taxon_group, older_ma, younger_ma, age_status, timescale,"
+		" min_depth_m, max_depth_m, locality_id) SELECT 1, i, 'Aus bus', 'crinoids', 80, 79, 'numeric', 'test-chart', 10, 20, 100 + i FROM c;",
+		BC_SHIFT_MST_MAX_POINTS + 1, BC_SHIFT_MST_MAX_POINTS + 1);
+	int rc = db && chart && sqlite3_exec(bc_db__sqlite(db), sql, NULL, NULL, NULL) == SQLITE_OK ? BC_OK : -1;
+	bc_shift_options o = BC_SHIFT_OPTIONS_INIT;
+	o.chart = chart;
+	if (rc == BC_OK)
+		rc = bc_shift_compute(&s, db, &o, &err);
+	bc_db_close(db);
+	bc_chart_free(chart);
+	CHECK_OK(rc, &err);
+	const bc_shift_bin *b = bc_shift_bin_at(s, 0);
+	int nan_tree = isnan(b->mst_km), cells = b->n_cells > 0, lat = b->lat_range_deg == 0;
+	size_t skipped = bc_shift_summary_get(s)->n_bins_mst_skipped, nloc = b->n_localities;
+	bc_shift_free(s);
+	CHECK(nan_tree);
+	CHECK(cells);
+	CHECK(lat);
+	CHECK_INT(nloc, BC_SHIFT_MST_MAX_POINTS + 1);
+	CHECK_INT(skipped, 1);
 }
