@@ -501,42 +501,67 @@ static int loc_ll_cmp(const void *a, const void *b)
 	return p->lon < q->lon ? -1 : p->lon > q->lon;
 }
 
-/* Prim's algorithm on the complete graph of distinct points with geodesic
- * edge lengths: O(n^2) time, O(n) memory. Returns metres. */
+/* Prim's algorithm on the complete graph of distinct points: O(n^2) time,
+ * O(n) memory. The tree is chosen by chord length on the unit sphere (a
+ * monotonic function of great-circle distance, so it is the great-circle
+ * minimum spanning tree, computed without a geodesic call per pair); its
+ * n - 1 edges are then measured as geodesics on WGS 84. On the ellipsoid the
+ * geodesic tree can differ only where two candidate edges are within the
+ * sphere-ellipsoid difference (< 0.5 %) of each other, and then its length
+ * differs by less than that. Returns metres. */
 static int loc_mst_m(const loc_ll *p, size_t n, double *out, bc_err *err)
 {
 	*out = 0;
 	if (n < 2)
 		return BC_OK;
 	double *best = bc__malloc(n * sizeof *best);
+	double *xyz = bc__malloc(3 * n * sizeof *xyz);
+	size_t *from = bc__malloc(n * sizeof *from);
 	unsigned char *in = bc__calloc(n, 1);
-	if (!best || !in) {
+	if (!best || !in || !xyz || !from) {
 		free(best);
 		free(in);
+		free(xyz);
+		free(from);
 		return bc_err_set(err, BC_ENOMEM, "out of memory");
 	}
-	for (size_t i = 0; i < n; i++)
+	const double rad = M_PI / 180.0;
+	for (size_t i = 0; i < n; i++) {
 		best[i] = INFINITY;
+		from[i] = 0;
+		double la = p[i].lat * rad, lo = p[i].lon * rad;
+		xyz[3 * i] = cos(la) * cos(lo);
+		xyz[3 * i + 1] = cos(la) * sin(lo);
+		xyz[3 * i + 2] = sin(la);
+	}
 	size_t cur = 0;
 	in[0] = 1;
 	double total = 0;
 	for (size_t step = 1; step < n; step++) {
 		size_t next = n;
+		const double *c = xyz + 3 * cur;
 		for (size_t j = 0; j < n; j++) {
 			if (in[j])
 				continue;
-			double d = bc_geo__distance_m(p[cur].lat, p[cur].lon, p[j].lat, p[j].lon);
-			if (d < best[j])
+			const double *q = xyz + 3 * j;
+			double dx = c[0] - q[0], dy = c[1] - q[1], dz = c[2] - q[2];
+			double d = dx * dx + dy * dy + dz * dz;
+			if (d < best[j]) {
 				best[j] = d;
+				from[j] = cur;
+			}
 			if (next == n || best[j] < best[next])
 				next = j;
 		}
-		total += best[next];
+		size_t f = from[next];
+		total += bc_geo__distance_m(p[f].lat, p[f].lon, p[next].lat, p[next].lon);
 		in[next] = 1;
 		cur = next;
 	}
 	free(best);
 	free(in);
+	free(xyz);
+	free(from);
 	*out = total;
 	return BC_OK;
 }
