@@ -467,6 +467,8 @@ int bc_shift__bins_read(bc_shift__bin **out, size_t *nout, const char *path, bc_
 	*out = NULL;
 	*nout = 0;
 	int rc = bc__read_file(path, &text, &len, err);
+	if (rc == BC_ENOTFOUND)
+		return bc_err_set(err, BC_EUSAGE, "--bins: '%s' is not stage, epoch, period, a width in Myr, or an existing bins file (name, older bound, younger bound)", path);
 	if (rc)
 		return rc;
 	char sep = strchr(text, '\t') ? '\t' : ',';

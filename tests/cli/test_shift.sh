@@ -40,6 +40,8 @@ expect_status 2 shift_bad_span $BC shift "$DB" --span most
 same_text shift_bad_span_message "$T/err" "bathychron: shift: --span: 'most' is not majority, all, split or max:MYR
 (see 'bathychron shift --help')"
 expect_status 2 shift_split_and_zones $BC shift "$DB" --split 200 --zones 200,1000
+expect_status 2 shift_bins_typo $BC shift "$DB" --bins stages
+same_text shift_bins_typo_message "$T/err" "bathychron: --bins: 'stages' is not stage, epoch, period, a width in Myr, or an existing bins file (name, older bound, younger bound)"
 expect_status 2 shift_unknown_option $BC shift "$DB" --colour red
 expect_status 3 shift_missing_db $BC shift "$T/none.gpkg"
 
