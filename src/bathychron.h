@@ -398,8 +398,9 @@ int bc_refs_load(bc_refs_result *out, bc_db *db, const char *path, bc_import_rep
 typedef struct bc_check_options {
 	bc_format format;          /* csv, tsv or json */
 	int quarantine;            /* 1 = write the quarantined rows as CSV instead of the report */
+	const char *kind;          /* with quarantine: the batches' kind, "occurrences" (NULL) or "injuries" */
 } bc_check_options;
-#define BC_CHECK_OPTIONS_INIT {BC_FORMAT_TSV, 0}
+#define BC_CHECK_OPTIONS_INIT {BC_FORMAT_TSV, 0, NULL}
 
 /**
  * Writes the data-quality report to `out`: one row per problem with

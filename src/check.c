@@ -151,7 +151,7 @@ static int on_conflict(const bc_locality_conflict *c, void *user)
 	return 0;
 }
 
-static int write_quarantine(bc_db *db, FILE *out, long long *n, bc_err *err)
+static int write_quarantine(bc_db *db, const char *kind, FILE *out, long long *n, bc_err *err)
 {
 	sqlite3_stmt *st = NULL;
 	char **cols = NULL;
@@ -159,9 +159,13 @@ static int write_quarantine(bc_db *db, FILE *out, long long *n, bc_err *err)
 	char **cells = NULL;
 	bc_buf line = {0};
 	long long rows = 0;
-	int rc = bc_db__prepare(db, &st, "SELECT j.key FROM quarantine q, json_each(q.raw_row) j ORDER BY q.quarantine_id, j.id", err);
+	/* One kind of batch at a time: occurrence rows and injury samples
+	 * have different columns and go back through different imports. */
+	int rc = bc_db__prepare(db, &st, "SELECT j.key FROM quarantine q JOIN import_batches b ON b.batch_id = q.batch_id, "
+		"json_each(q.raw_row) j WHERE b.kind = :kind ORDER BY q.quarantine_id, j.id", err);
 	if (rc)
 		return rc;
+	bc_db__bind_text(st, ":kind", kind);
 	int step;
 	while ((step = sqlite3_step(st)) == SQLITE_ROW) {
 		const char *k = (const char *)sqlite3_column_text(st, 0);
@@ -199,8 +203,10 @@ static int write_quarantine(bc_db *db, FILE *out, long long *n, bc_err *err)
 	bc__buf_puts(&line, "\r\n");
 	if ((rc = bc_db__prepare(db, &st,
 		     "SELECT q.quarantine_id, q.batch_id, q.file, q.line, q.field, q.reason, j.key, j.value "
-		     "FROM quarantine q, json_each(q.raw_row) j ORDER BY q.quarantine_id, j.id", err)))
+		     "FROM quarantine q JOIN import_batches b ON b.batch_id = q.batch_id, json_each(q.raw_row) j "
+		     "WHERE b.kind = :kind ORDER BY q.quarantine_id, j.id", err)))
 		goto done;
+	bc_db__bind_text(st, ":kind", kind);
 	long long cur = -1;
 	char head[5][1024];
 	for (;;) {
@@ -273,7 +279,7 @@ int bc_check_run(bc_db *db, const bc_check_options *opts, FILE *out, long long *
 		opts = &defaults;
 	*n_problems = 0;
 	if (opts->quarantine)
-		return write_quarantine(db, out, n_problems, err);
+		return write_quarantine(db, opts->kind ? opts->kind : "occurrences", out, n_problems, err);
 	if (opts->format != BC_FORMAT_CSV && opts->format != BC_FORMAT_TSV && opts->format != BC_FORMAT_JSON)
 		return bc_err_set(err, BC_EUSAGE, "check writes tsv, csv or json");
 	writer w = {out, opts->format, 0, {0}};

@@ -6,7 +6,7 @@
 #include <string.h>
 
 static const char help[] =
-	"usage: bathychron check DB [--format tsv|csv|json] [--quarantine] [-o FILE]\n\n"
+	"usage: bathychron check DB [--format tsv|csv|json] [--quarantine [--kind K]] [-o FILE]\n\n"
 	"Reports, one row each, with columns problem, batch, file, line, key, detail:\n"
 	"  quarantined           rows an import could not use (field in key, reason in detail)\n"
 	"  unlinked_reference    an associatedReferences key with no loaded reference\n"
@@ -23,6 +23,8 @@ static const char help[] =
 	"                quarantine_field, quarantine_reason, then the row's own columns.\n"
 	"                Fix the cells and import the file again; the five quarantine_*\n"
 	"                columns are then kept as extra columns (delete them if unwanted).\n"
+	"  --kind K      with --quarantine: rows of occurrence imports (default,\n"
+	"                'occurrences') or of 'bathychron injuries import' ('injuries')\n"
 	"  -o FILE       write to FILE instead of standard output\n\n"
 	"Exit status: 0 no problems, 1 problems reported (the no_coordinates count\n"
 	"alone is not a problem), 2 usage error, 3 environment failure.\n";
@@ -45,6 +47,12 @@ int cmd_check(int argc, char **argv)
 				return cli_usage("check", "--format must be tsv, csv or json, not '%s'", argv[i]);
 		} else if (strcmp(a, "--quarantine") == 0) {
 			o.quarantine = 1;
+		} else if (strcmp(a, "--kind") == 0) {
+			if (i + 1 >= argc)
+				return cli_usage("check", "--kind needs a value");
+			o.kind = argv[++i];
+			if (strcmp(o.kind, "occurrences") != 0 && strcmp(o.kind, "injuries") != 0)
+				return cli_usage("check", "--kind must be occurrences or injuries, not '%s'", o.kind);
 		} else if (strcmp(a, "-o") == 0) {
 			if (i + 1 >= argc)
 				return cli_usage("check", "-o needs a file");

@@ -24,6 +24,12 @@ bathychron: injuries.csv:14: minimumDepthInMeters: depth -20 m is negative (dept
 same_text injuries_import_summary "$T/out" "injuries.csv: 13 rows read, 11 stored (394 individuals, 88 regenerating), 2 quarantined; batch 1"
 expect_status 1 injuries_reimport_refused $BC injuries import db.gpkg injuries.csv
 contains injuries_reimport_message "$T/err" "identical content was already imported as batch 1"
+# the quarantine CSV holds one kind of batch at a time, ready for its own import
+expect_status 1 injuries_quarantine_csv $BC check db.gpkg --quarantine --kind injuries
+contains injuries_quarantine_has_rows "$T/out" ",regenerationDays,\"no duration: give regenerationDays"
+expect_status 0 injuries_quarantine_not_in_occurrences $BC check db.gpkg --quarantine
+check injuries_quarantine_occurrences_header_only sh -c "[ \$(wc -l < '$T/out') = 1 ] && grep -q '^quarantine_batch,quarantine_file,quarantine_line,quarantine_field,quarantine_reason' '$T/out'"
+expect_status 2 check_kind_unknown $BC check db.gpkg --quarantine --kind bones
 check injuries_quarantine_kept sh -c "[ \$(sqlite3 db.gpkg \"SELECT count(*) FROM quarantine q JOIN import_batches b USING (batch_id) WHERE b.kind = 'injuries'\") = 2 ]"
 
 expect_status 0 encounter_csv $BC encounter db.gpkg --draws 2000 --seed 7 -o a.csv
