@@ -138,6 +138,7 @@ typedef struct importer {
 	bc_colmap *map;
 	bc_vocab *env, *pres, *units;
 	bc_chart *chart;
+	double chart_oldest; /* the chart's oldest bound (Ma), 0 if none */
 	bc_resolver *res;
 	bc_geo *geo;
 	sqlite3_stmt *st_occ, *st_q;
@@ -444,10 +445,7 @@ static int import_age(importer *im, occ *o)
 	o->l_ma = gl ? l : NAN;
 	/* A date (2021, 44259 as a spreadsheet serial) or years typed into a
 	 * column of Ma: older than the chart's oldest bound. */
-	double oldest = 0;
-	for (size_t i = 0; i < bc_chart_count(im->chart); i++)
-		if (bc_chart_interval(im->chart, i)->older_ma > oldest)
-			oldest = bc_chart_interval(im->chart, i)->older_ma;
+	double oldest = im->chart_oldest;
 	if (ge && oldest > 0 && e > oldest)
 		row_problem(im, "earliestChronometricAge", "%g Ma is older than the chart (%g Ma); a date or years typed in a column of Ma?", e, oldest);
 	if (gl && oldest > 0 && l > oldest)
@@ -1296,6 +1294,9 @@ int bc_import_file(bc_import_result *out, bc_db *db, const char *path, const bc_
 		goto done;
 	if ((rc = bc_timescale_get(&im.chart, db, im.o->timescale, err)) || (rc = bc_resolver_new(&im.res, im.chart, err)))
 		goto done;
+	for (size_t i = 0; i < bc_chart_count(im.chart); i++)
+		if (bc_chart_interval(im.chart, i)->older_ma > im.chart_oldest)
+			im.chart_oldest = bc_chart_interval(im.chart, i)->older_ma;
 	snprintf(out->timescale, sizeof out->timescale, "%s", bc_chart_name(im.chart));
 	if ((rc = refuse_duplicate(db, im.name, sha, err)))
 		goto done;
