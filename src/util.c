@@ -149,19 +149,25 @@ int bc__buf_printf(bc_buf *b, const char *fmt, ...)
 int bc__buf_json_string(bc_buf *b, const char *s)
 {
 	int rc = bc__buf_append(b, "\"", 1);
-	for (const unsigned char *p = (const unsigned char *)s; rc == 0 && *p; p++) {
+	const unsigned char *p = (const unsigned char *)s;
+	while (rc == 0 && *p) {
+		/* a run of bytes that need no escape goes in with one append */
+		const unsigned char *run = p;
+		while (*p >= 0x20 && *p != '"' && *p != '\\')
+			p++;
+		if (p > run && (rc = bc__buf_append(b, (const char *)run, (size_t)(p - run))))
+			break;
+		if (!*p)
+			break;
 		switch (*p) {
 		case '"': rc = bc__buf_puts(b, "\\\""); break;
 		case '\\': rc = bc__buf_puts(b, "\\\\"); break;
 		case '\n': rc = bc__buf_puts(b, "\\n"); break;
 		case '\r': rc = bc__buf_puts(b, "\\r"); break;
 		case '\t': rc = bc__buf_puts(b, "\\t"); break;
-		default:
-			if (*p < 0x20)
-				rc = bc__buf_printf(b, "\\u%04x", *p);
-			else
-				rc = bc__buf_append(b, (const char *)p, 1);
+		default: rc = bc__buf_printf(b, "\\u%04x", *p);
 		}
+		p++;
 	}
 	return rc ? rc : bc__buf_append(b, "\"", 1);
 }
