@@ -4,6 +4,7 @@
  * design.md column names, extensions joined by coreid; and write one.
  */
 #include "dwca_impl.h"
+#include "xml.h"
 
 #include <ctype.h>
 #include <errno.h>
@@ -475,37 +476,6 @@ static int check_zip(bc_dwca *a, bc_err *err)
 /* Hardened XML.                                                       */
 /* ------------------------------------------------------------------ */
 
-typedef struct xml_state {
-	const char *file;
-	bc_err *err;
-	int rc;
-} xml_state;
-
-static void xml_error(void *ctx,
-#if LIBXML_VERSION >= 21200
-	const xmlError *e
-#else
-	xmlErrorPtr e
-#endif
-)
-{
-	xml_state *st = ctx;
-	if (!st || st->rc || !e || e->level < XML_ERR_ERROR)
-		return;
-	char msg[512];
-	snprintf(msg, sizeof msg, "%s", e->message ? e->message : "error");
-	size_t n = strlen(msg);
-	while (n && (msg[n - 1] == '\n' || msg[n - 1] == ' '))
-		msg[--n] = '\0';
-	st->rc = bc_err_set(st->err, BC_EINVALID, "%s:%d: XML: not well-formed: %s", st->file, e->line, msg);
-}
-
-static void xml_silent(void *ctx, const char *fmt, ...)
-{
-	(void)ctx;
-	(void)fmt;
-}
-
 /* SAX hook for <!DOCTYPE ...>: refused outright. A Darwin Core metafile or
  * an EML document needs no DTD, and refusing it before any declaration is
  * read rules out entity expansion and external entities alike. */
@@ -513,7 +483,7 @@ static void xml_doctype(void *ctx, const xmlChar *name, const xmlChar *public_id
 {
 	(void)public_id;
 	xmlParserCtxtPtr ctxt = ctx;
-	xml_state *st = ctxt->_private;
+	bc_xml_state *st = ctxt->_private;
 	if (st && !st->rc)
 		st->rc = bc_err_set(st->err, BC_EINVALID,
 			"%s:%d: DOCTYPE: refused: a document type declaration ('%s'%s%s) is not allowed here "
@@ -531,7 +501,7 @@ static void xml_entity(void *ctx, const xmlChar *name, int type, const xmlChar *
 	(void)system_id;
 	(void)content;
 	xmlParserCtxtPtr ctxt = ctx;
-	xml_state *st = ctxt->_private;
+	bc_xml_state *st = ctxt->_private;
 	if (st && !st->rc)
 		st->rc = bc_err_set(st->err, BC_EINVALID, "%s:%d: DOCTYPE: refused: entity '%s' declared",
 			st->file, xmlSAX2GetLineNumber(ctx), name ? (const char *)name : "");
@@ -545,28 +515,10 @@ static int xml_parse(xmlDoc **out, const char *file, const char *buf, size_t len
 		return bc_err_set(err, BC_EINVALID, "%s: refused: too large for the XML reader", file);
 	if (len == 0)
 		return bc_err_set(err, BC_EINVALID, "%s:1: XML: empty file", file);
-	xmlInitParser();
-	xml_state st = {file, err, BC_OK};
-	xmlParserCtxtPtr ctxt = xmlCreateMemoryParserCtxt(buf, (int)len);
-	if (!ctxt)
-		return bc_dwca__oom(err);
-	/* NONET; never NOENT, DTDLOAD, DTDATTR or HUGE, so libxml2's limits stay on. */
-	xmlCtxtUseOptions(ctxt, XML_PARSE_NONET | XML_PARSE_BIG_LINES);
-	ctxt->_private = &st;
-	ctxt->sax->internalSubset = xml_doctype;
-	ctxt->sax->entityDecl = xml_entity;
-	ctxt->sax->unparsedEntityDecl = NULL;
-	xmlSetStructuredErrorFunc(&st, xml_error);
-	xmlSetGenericErrorFunc(NULL, xml_silent);
-	xmlParseDocument(ctxt);
-	xmlSetStructuredErrorFunc(NULL, NULL);
-	xmlSetGenericErrorFunc(NULL, NULL);
-	int wf = ctxt->wellFormed;
-	xmlDoc *doc = ctxt->myDoc;
-	ctxt->myDoc = NULL;
-	xmlFreeParserCtxt(ctxt);
-	if (!st.rc && (!wf || !doc))
-		st.rc = bc_err_set(err, BC_EINVALID, "%s: XML: not well-formed", file);
+	bc_xml_state st = {file, err, BC_OK};
+	xmlDoc *doc = bc_xml__parse(&st, buf, (int)len, xml_doctype, xml_entity);
+	if (!doc)
+		return st.rc;
 	if (!st.rc && (doc->intSubset || doc->extSubset))
 		st.rc = bc_err_set(err, BC_EINVALID, "%s: DOCTYPE: refused: a document type declaration is not allowed here", file);
 	if (st.rc) {

@@ -8,6 +8,7 @@
  * reader over the libxml2 tree), then the triples are read as a chart.
  */
 #include "skos.h"
+#include "xml.h"
 
 #include <ctype.h>
 #include <errno.h>
@@ -438,37 +439,6 @@ static const char *rdf_node(graph *g, xmlNode *el, const char *base)
 /* Hardened parsing.                                                   */
 /* ------------------------------------------------------------------ */
 
-typedef struct parse_state {
-	const char *file;
-	bc_err *err;
-	int rc;
-} parse_state;
-
-static void skos_xml_error(void *ctx,
-#if LIBXML_VERSION >= 21200
-	const xmlError *e
-#else
-	xmlErrorPtr e
-#endif
-)
-{
-	parse_state *st = ctx;
-	if (!st || st->rc || !e || e->level < XML_ERR_ERROR)
-		return;
-	char msg[512];
-	snprintf(msg, sizeof msg, "%s", e->message ? e->message : "error");
-	size_t n = strlen(msg);
-	while (n && (msg[n - 1] == '\n' || msg[n - 1] == ' '))
-		msg[--n] = '\0';
-	st->rc = bc_err_set(st->err, BC_EINVALID, "%s:%d: XML: not well-formed: %s", st->file, e->line, msg);
-}
-
-static void skos_silent(void *ctx, const char *fmt, ...)
-{
-	(void)ctx;
-	(void)fmt;
-}
-
 /* SAX hook: the first entity declaration stops the parse. Entities are
  * never defined, so nothing can expand (entity-expansion bombs, external
  * entities such as file:///etc/passwd). A chart file needs no DTD. */
@@ -478,7 +448,7 @@ static void skos_entity_decl(void *ctx, const xmlChar *name, int type, const xml
 	(void)public_id;
 	(void)content;
 	xmlParserCtxtPtr ctxt = ctx;
-	parse_state *st = ctxt->_private;
+	bc_xml_state *st = ctxt->_private;
 	if (st && !st->rc) {
 		int external = type == XML_EXTERNAL_GENERAL_PARSED_ENTITY || type == XML_EXTERNAL_GENERAL_UNPARSED_ENTITY ||
 			type == XML_EXTERNAL_PARAMETER_ENTITY;
@@ -496,27 +466,10 @@ static int skos_parse(xmlDoc **out, const char *path, const char *buf, size_t le
 	*out = NULL;
 	if (len > INT_MAX)
 		return bc_err_set(err, BC_EINVALID, "%s: refused: file too large for the XML reader (%zu bytes)", path, len);
-	xmlInitParser();
-	parse_state st = {path, err, BC_OK};
-	xmlParserCtxtPtr ctxt = xmlCreateMemoryParserCtxt(buf, (int)len);
-	if (!ctxt)
-		return bc_err_set(err, BC_ENOMEM, "%s: out of memory", path);
-	/* NONET, and no NOENT, DTDLOAD, DTDATTR or HUGE: libxml2's limits stay on. */
-	xmlCtxtUseOptions(ctxt, XML_PARSE_NONET | XML_PARSE_BIG_LINES);
-	ctxt->_private = &st;
-	ctxt->sax->entityDecl = skos_entity_decl;
-	ctxt->sax->unparsedEntityDecl = NULL;
-	xmlSetStructuredErrorFunc(&st, skos_xml_error);
-	xmlSetGenericErrorFunc(NULL, skos_silent);
-	xmlParseDocument(ctxt);
-	xmlSetStructuredErrorFunc(NULL, NULL);
-	xmlSetGenericErrorFunc(NULL, NULL);
-	int wf = ctxt->wellFormed;
-	xmlDoc *doc = ctxt->myDoc;
-	ctxt->myDoc = NULL;
-	xmlFreeParserCtxt(ctxt);
-	if (!st.rc && (!wf || !doc))
-		st.rc = bc_err_set(err, BC_EINVALID, "%s: XML: not well-formed", path);
+	bc_xml_state st = {path, err, BC_OK};
+	xmlDoc *doc = bc_xml__parse(&st, buf, (int)len, NULL, skos_entity_decl);
+	if (!doc)
+		return st.rc;
 	if (!st.rc && doc->intSubset && (doc->intSubset->entities || doc->intSubset->pentities))
 		st.rc = bc_err_set(err, BC_EINVALID, "%s: DOCTYPE: refused: the document type declaration declares entities", path);
 	if (st.rc) {
