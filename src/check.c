@@ -123,6 +123,10 @@ static const char sql_no_coords[] =
  * decimals of a degree moves by up to about 80 m (common practice, no
  * source). */
 #define CHECK_LOCALITY_TOLERANCE_M 200.0
+/* Unnamed localities closer than this in one formation are reported as
+ * probable duplicates (common practice, no source: about the precision of
+ * coordinates read off a 1:25 000 map). */
+#define CHECK_NEAR_UNNAMED_M 100.0
 
 typedef struct conflict_ctx {
 	writer *w;
@@ -144,6 +148,28 @@ static int on_conflict(const bc_locality_conflict *c, void *user)
 	char key[600];
 	snprintf(key, sizeof key, "%s%s%s", c->name ? c->name : "", c->country && c->country[0] ? ", " : "", c->country ? c->country : "");
 	const char *v[6] = {"locality_coordinates", batch, c->file ? c->file : "", line, key, detail};
+	int rc = w_row(x->w, v);
+	if (rc)
+		return x->rc = rc;
+	(*x->count)++;
+	return 0;
+}
+
+/* Unnamed localities close together in one formation: probably one site
+ * given twice. Reported, never merged. */
+static int on_near(const bc_locality_near *p, void *user)
+{
+	conflict_ctx *x = user;
+	char line[32] = "", key[64], detail[1024];
+	if (p->line2)
+		snprintf(line, sizeof line, "%lld", (long long)p->line2);
+	snprintf(key, sizeof key, "localities %lld and %lld", (long long)p->fid1, (long long)p->fid2);
+	snprintf(detail, sizeof detail,
+		"unnamed localities %.0f m apart in the same formation (%s): %.6f %.6f (first given at %s:%lld) and %.6f %.6f; "
+		"probably one site; not merged (give them a locality name to join or separate them)",
+		p->distance_m, p->formation && p->formation[0] ? p->formation : "none given", p->lat1, p->lon1,
+		p->file1 && p->file1[0] ? p->file1 : "?", (long long)p->line1, p->lat2, p->lon2);
+	const char *v[6] = {"near_duplicate_locality", "", p->file2 ? p->file2 : "", line, key, detail};
 	int rc = w_row(x->w, v);
 	if (rc)
 		return x->rc = rc;
@@ -297,6 +323,8 @@ int bc_check_run(bc_db *db, const bc_check_options *opts, FILE *out, long long *
 	if (rc == BC_OK) {
 		conflict_ctx x = {&w, n_problems, 0};
 		rc = bc_locality__conflicts(db, CHECK_LOCALITY_TOLERANCE_M, on_conflict, &x, err);
+		if (rc == BC_OK && !x.rc)
+			rc = bc_locality__near_unnamed(db, CHECK_NEAR_UNNAMED_M, on_near, &x, err);
 		if (x.rc)
 			rc = bc_err_set(err, x.rc, x.rc == BC_EIO ? "writing the report failed" : "out of memory");
 	}

@@ -19,8 +19,14 @@ contains check_no_coordinates_is_information "$T/out" "1 of 3 stored occurrences
 $BC import "$T/db" mixed.csv >/dev/null 2>&1
 printf 'scientificName,locality,country,decimalLatitude,decimalLongitude,earliestAgeOrLowestStage\nFictocrinus delta,Quarry Vell,Norland,50.6,10.25,Maastrichtian\n' >"$T/moved.csv"
 $BC import "$T/db" "$T/moved.csv" >/dev/null 2>&1
+# Two unnamed rows 0.0005 deg of latitude (about 56 m) apart in one formation:
+# reported as probably one site, never merged.
+printf 'scientificName,formation,decimalLatitude,decimalLongitude,earliestAgeOrLowestStage\nNullacrinus vagus,Tarn Limestone Fm,48.1000,9.5000,Campanian\nNullacrinus vagus,Tarn Limestone Fm,48.1005,9.5000,Campanian\n' >"$T/unnamed.csv"
+$BC import "$T/db" "$T/unnamed.csv" >/dev/null 2>&1
 expect_status 1 check_problems $BC check "$T/db"
-for k in quarantined unlinked_reference age_conflict duplicate locality_coordinates; do
+check check_unnamed_not_merged sh -c "[ \$(sqlite3 '$T/db' \"SELECT count(*) FROM localities WHERE name = '' AND formation = 'Tarn Limestone Fm'\") = 2 ]"
+contains check_near_duplicate_detail "$T/out" "unnamed localities 56 m apart in the same formation (Tarn Limestone Fm)"
+for k in quarantined unlinked_reference age_conflict duplicate locality_coordinates near_duplicate_locality; do
 	grep -q "^$k	" "$T/out" && ok "check_reports_$k" || fail "check_reports_$k" "$(head -c 300 "$T/out")"
 done
 contains check_unlinked_key "$T/out" "$(printf 'unlinked_reference\t3\tmixed.csv\t15\tNobody2020\t')"
