@@ -252,15 +252,15 @@ dump_same xml_db_unchanged "$DB" "$T/before.sql"
 # the archive is read or written.
 # ------------------------------------------------------------------
 sqlite3 "$DB" .dump >"$T/before.sql"
-mkdir -p "$T/work/a/b"; cp "$BAD/dwca-zip-slip.zip" "$T/work/a/b/"
+mkdir -p "$T/nest/a/b"; cp "$BAD/dwca-zip-slip.zip" "$T/nest/a/b/"
 expect_status 1 dwca_zip_bomb_refused $BC import "$DB" "$BAD/dwca-zip-bomb.zip"
 same_text dwca_zip_bomb_message "$T/err" "bathychron: $BAD/dwca-zip-bomb.zip/padding.bin: refused: declared compression ratio 1029:1 is over 1000:1 (possible zip bomb); nothing was imported"
 # The slip archive is imported from a folder two levels down, so that
 # '../../escaped.txt' would land in $T/work if it were ever written.
-(cd "$T/work/a/b" && $BC import "$DB" dwca-zip-slip.zip >"$T/out" 2>"$T/err"); s=$?
+(cd "$T/nest/a/b" && $BC import "$DB" dwca-zip-slip.zip >"$T/out" 2>"$T/err"); s=$?
 [ $s -eq 1 ] && ok dwca_zip_slip_refused || fail dwca_zip_slip_refused "exit $s"
 same_text dwca_zip_slip_message "$T/err" "bathychron: dwca-zip-slip.zip: entry '../../escaped.txt': refused: '..' leaves the archive folder; nothing was imported"
-[ ! -e "$T/work/escaped.txt" ] && [ ! -e "$T/escaped.txt" ] && ok dwca_zip_slip_nothing_written || fail dwca_zip_slip_nothing_written "escaped.txt exists"
+[ ! -e "$T/nest/escaped.txt" ] && [ ! -e "$T/escaped.txt" ] && ok dwca_zip_slip_nothing_written || fail dwca_zip_slip_nothing_written "escaped.txt exists"
 expect_status 1 dwca_xxe_refused $BC import "$DB" "$BAD/dwca-xxe"
 same_text dwca_xxe_message "$T/err" "bathychron: $BAD/dwca-xxe/meta.xml:2: DOCTYPE: refused: a document type declaration ('archive') is not allowed here (no DTD is loaded and no entity is expanded); nothing was imported"
 if grep -q 'root:' "$T/out" "$T/err"; then fail dwca_xxe_not_read "/etc/passwd content in output"; else ok dwca_xxe_not_read; fi

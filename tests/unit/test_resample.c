@@ -15,7 +15,7 @@
 
 /* xoshiro256** from the state {1, 2, 3, 4}: 11520, 0, 1509978240,
  * 1215971899390074240 (the reference implementation's first outputs, from
- * memory; reproduced by a Python transcription of Blackman & Vigna's
+ * memory; reproduced by a Python rewrite of Blackman & Vigna's
  * published algorithm). */
 TEST(resample_xoshiro_known_outputs)
 {
@@ -27,7 +27,7 @@ TEST(resample_xoshiro_known_outputs)
 }
 
 /* Per-draw streams keyed by (seed, stream, index): pinned first outputs
- * (computed by a Python transcription of the seeding in resample.c, so any
+ * (computed by a Python rewrite of the seeding in resample.c, so any
  * machine must give these), and different keys give different streams. */
 TEST(resample_stream_seeding_pinned)
 {
