@@ -54,6 +54,7 @@ step "7. the figure, in three formats"
 for f in svg pdf png; do
 	must run plot $db --group stalked -o demo-output/shift.$f
 done
+must run plot $db --group stalked --bins epoch --draws 1000 --seed 2026 --bootstrap --width 180 -o demo-output/shift-draws.png
 
 step "8. per-taxon depth ranges (genus) with their figure"
 must run ranges $db --group stalked --rank genus --format md -o demo-output/ranges.md --figure demo-output/ranges.png
