@@ -336,6 +336,10 @@ static int csv_fill(bc_csv *c, bc_err *err)
 				s += 3;
 				len -= 3;
 			}
+			/* A spreadsheet program's own file instead of its text export:
+			 * the OLE2 signature of .xls (and old .doc) files. */
+			if (len >= 8 && memcmp(s, "\xD0\xCF\x11\xE0\xA1\xB1\x1A\xE1", 8) == 0)
+				return bc_err_set(err, BC_EINVALID, "%s:1: encoding: an Excel 97-2003 workbook (.xls), not text; save the sheet as CSV (UTF-8) and import that", c->name);
 		}
 		if (memchr(s, '\0', len))
 			return bc_err_set(err, BC_EINVALID, "%s:%ld: encoding: NUL byte in the text (a binary or UTF-16 file?); save the file as UTF-8 text", c->name, c->lineno);

@@ -425,7 +425,7 @@ static int check_zip(bc_dwca *a, bc_err *err)
 		return bc_err_set(err, BC_EINVALID, "%s: refused: %lld entries, over the limit of %llu", a->name,
 			(long long)n, (unsigned long long)a->lim.max_entries);
 	uint64_t total = 0;
-	int meta_root = 0;
+	int meta_root = 0, workbook = 0;
 	const char *meta_sub = NULL;
 	int n_sub = 0;
 	for (zip_uint64_t i = 0; i < (zip_uint64_t)n; i++) {
@@ -451,6 +451,8 @@ static int check_zip(bc_dwca *a, bc_err *err)
 					"%s/%s: refused: declared compression ratio %.0f:1 is over %.0f:1 (possible zip bomb); nothing was imported",
 					a->name, st.name, (double)st.size / (double)(st.comp_size ? st.comp_size : 1), a->lim.max_ratio);
 		}
+		if (strcmp(st.name, "[Content_Types].xml") == 0 || strcmp(st.name, "mimetype") == 0)
+			workbook = 1; /* Office Open XML (.xlsx) or OpenDocument (.ods) container */
 		if (strcmp(st.name, "meta.xml") == 0)
 			meta_root = 1;
 		else {
@@ -467,6 +469,8 @@ static int check_zip(bc_dwca *a, bc_err *err)
 		a->prefix = bc__strdup("");
 	else if (n_sub == 1)
 		a->prefix = bc__strndup(meta_sub, strlen(meta_sub) - strlen("meta.xml"));
+	else if (workbook)
+		return bc_err_set(err, BC_EINVALID, "%s: a spreadsheet workbook (.xlsx or .ods), not CSV or a Darwin Core Archive; save the sheet as CSV (UTF-8) and import that", a->name);
 	else
 		return bc_err_set(err, BC_EINVALID, "%s: not a Darwin Core Archive: no meta.xml at the top of the zip", a->name);
 	return a->prefix ? BC_OK : bc_dwca__oom(err);

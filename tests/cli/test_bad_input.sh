@@ -80,6 +80,13 @@ refused binary "bathychron: $BAD/csv-binary.csv:1: encoding: NUL byte in the tex
 refused latin1 "bathychron: $BAD/csv-latin1.csv:3: encoding: not UTF-8 (looks like Latin-1/Windows-1252); save the file as UTF-8"
 refused utf16 "bathychron: $BAD/csv-utf16.csv:1: encoding: UTF-16 (byte-order mark found); save the file as UTF-8"
 refused nul "bathychron: $BAD/csv-nul.csv:3: encoding: NUL byte in the text (a binary or UTF-16 file?); save the file as UTF-8 text"
+# The spreadsheet program's own files instead of a CSV export.
+sqlite3 "$DB" .dump >"$T/before.sql"
+expect_status 1 workbook_xls_refused $BC import "$DB" "$BAD/workbook-old.xls"
+same_text workbook_xls_message "$T/err" "bathychron: $BAD/workbook-old.xls:1: encoding: an Excel 97-2003 workbook (.xls), not text; save the sheet as CSV (UTF-8) and import that"
+expect_status 1 workbook_xlsx_refused $BC import "$DB" "$BAD/workbook.xlsx"
+same_text workbook_xlsx_message "$T/err" "bathychron: $BAD/workbook.xlsx: a spreadsheet workbook (.xlsx or .ods), not CSV or a Darwin Core Archive; save the sheet as CSV (UTF-8) and import that"
+dump_same workbooks_db_unchanged "$DB" "$T/before.sql"
 
 # ------------------------------------------------------------------
 # Files with some bad rows: the bad rows go to the quarantine with file,
