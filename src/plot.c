@@ -1490,8 +1490,13 @@ done:
 	return rc;
 }
 
-int bc_plot_shift(const char *path, const bc_plot_bin *bins, size_t n, const bc_chart *chart,
-		  const bc_plot_options *opt, bc_err *err)
+/* The two figures differ only in their layout: each entry point names its
+ * data and layout; measuring, rendering and clean-up are shared here. */
+typedef int (*plot_layout_fn)(plot *p, cairo_t *cr, const void *items, size_t n, const bc_chart *chart,
+			      const bc_plot_options *opt, bc_err *err);
+
+static int plot_file(const char *path, plot_layout_fn layout, const void *items, size_t n, const bc_chart *chart,
+		     const bc_plot_options *opt, bc_err *err)
 {
 	plot p;
 	bc_plot_format fmt;
@@ -1501,7 +1506,7 @@ int bc_plot_shift(const char *path, const bc_plot_bin *bins, size_t n, const bc_
 		return rc;
 	/* measure on a scratch surface with the same font options */
 	cairo_t *cr = plot_measure_cr(&s);
-	rc = plot_layout(&p, cr, bins, n, chart, opt, err);
+	rc = layout(&p, cr, items, n, chart, opt, err);
 	cairo_destroy(cr);
 	cairo_surface_destroy(s);
 	if (rc == BC_OK)
@@ -1510,23 +1515,28 @@ int bc_plot_shift(const char *path, const bc_plot_bin *bins, size_t n, const bc_
 	return rc;
 }
 
+static int layout_shift(plot *p, cairo_t *cr, const void *items, size_t n, const bc_chart *chart,
+			const bc_plot_options *opt, bc_err *err)
+{
+	return plot_layout(p, cr, items, n, chart, opt, err);
+}
+
+static int layout_ranges(plot *p, cairo_t *cr, const void *items, size_t n, const bc_chart *chart,
+			 const bc_plot_options *opt, bc_err *err)
+{
+	return plot_layout_ranges(p, cr, items, n, chart, opt, err);
+}
+
+int bc_plot_shift(const char *path, const bc_plot_bin *bins, size_t n, const bc_chart *chart,
+		  const bc_plot_options *opt, bc_err *err)
+{
+	return plot_file(path, layout_shift, bins, n, chart, opt, err);
+}
+
 int bc_plot_ranges(const char *path, const bc_plot_taxon_range *taxa, size_t n, const bc_chart *chart,
 		   const bc_plot_options *opt, bc_err *err)
 {
-	plot p;
-	bc_plot_format fmt;
-	cairo_surface_t *s = NULL;
-	int rc = bc_plot_format_from_path(&fmt, path, err);
-	if (rc != BC_OK)
-		return rc;
-	cairo_t *cr = plot_measure_cr(&s);
-	rc = plot_layout_ranges(&p, cr, taxa, n, chart, opt, err);
-	cairo_destroy(cr);
-	cairo_surface_destroy(s);
-	if (rc == BC_OK)
-		rc = plot_render(&p, path, fmt, err);
-	plot_free(&p);
-	return rc;
+	return plot_file(path, layout_ranges, taxa, n, chart, opt, err);
 }
 
 void bc_plot_cleanup(void)
