@@ -14,6 +14,13 @@ void *bc__calloc(size_t count, size_t size);
 void *bc__realloc(void *p, size_t n);
 char *bc__strdup(const char *s);
 char *bc__strndup(const char *s, size_t n);
+/**
+ * Room for one more element in the array `p` holding `n` of `*cap`
+ * elements of `elem` bytes: returns `p` when there is room, else the
+ * array grown (doubled; `first` elements when empty) with *cap updated, or
+ * NULL when out of memory (then `p` is untouched and still the caller's).
+ */
+void *bc__grow(void *p, size_t n, size_t *cap, size_t elem, size_t first);
 /** Test hook: make the Nth allocation from now fail (0 = never). */
 void bc__alloc_fail_after(long n);
 

@@ -414,15 +414,12 @@ int bc_locality__near_unnamed(bc_db *db, double within_m, bc_locality_near_fn fn
 			rc = bc_db__error(db, err, "listing unnamed localities");
 			break;
 		}
-		if (n == cap) {
-			size_t nc = cap ? cap * 2 : 64;
-			loc_pt *np2 = bc__realloc(pts, nc * sizeof *pts);
-			if (!np2) {
-				rc = bc_err_set(err, BC_ENOMEM, "out of memory");
-				break;
-			}
-			pts = np2, cap = nc;
+		loc_pt *grown = bc__grow(pts, n, &cap, sizeof *pts, 64);
+		if (!grown) {
+			rc = bc_err_set(err, BC_ENOMEM, "out of memory");
+			break;
 		}
+		pts = grown;
 		loc_pt *p = &pts[n];
 		memset(p, 0, sizeof *p);
 		n++;
@@ -448,15 +445,12 @@ int bc_locality__near_unnamed(bc_db *db, double within_m, bc_locality_near_fn fn
 			double d = bc_geo__distance_m(pts[i].lat, pts[i].lon, pts[j].lat, pts[j].lon);
 			if (d > within_m)
 				continue;
-			if (np == pcap) {
-				size_t nc = pcap ? pcap * 2 : 16;
-				loc_pair *q = bc__realloc(pairs, nc * sizeof *pairs);
-				if (!q) {
-					rc = bc_err_set(err, BC_ENOMEM, "out of memory");
-					break;
-				}
-				pairs = q, pcap = nc;
+			loc_pair *q = bc__grow(pairs, np, &pcap, sizeof *pairs, 16);
+			if (!q) {
+				rc = bc_err_set(err, BC_ENOMEM, "out of memory");
+				break;
 			}
+			pairs = q;
 			size_t a = pts[i].fid < pts[j].fid ? i : j, b = a == i ? j : i;
 			pairs[np++] = (loc_pair){pts[a].fid, pts[b].fid, a, b, d};
 		}
@@ -654,13 +648,10 @@ static int loc_item_cmp(const void *a, const void *b)
 
 static int loc_set_add(loc_set *s, int64_t fid, double lon, double lat, bc_err *err)
 {
-	if (s->n == s->cap) {
-		size_t nc = s->cap ? s->cap * 2 : 64;
-		loc_item *it = bc__realloc(s->it, nc * sizeof *it);
-		if (!it)
-			return bc_err_set(err, BC_ENOMEM, "out of memory");
-		s->it = it, s->cap = nc;
-	}
+	loc_item *it = bc__grow(s->it, s->n, &s->cap, sizeof *it, 64);
+	if (!it)
+		return bc_err_set(err, BC_ENOMEM, "out of memory");
+	s->it = it;
 	s->it[s->n++] = (loc_item){fid, lon, lat};
 	return BC_OK;
 }

@@ -24,6 +24,17 @@ void *bc__malloc(size_t n) { return alloc_should_fail() ? NULL : malloc(n ? n : 
 void *bc__calloc(size_t c, size_t s) { return alloc_should_fail() ? NULL : calloc(c ? c : 1, s ? s : 1); }
 void *bc__realloc(void *p, size_t n) { return alloc_should_fail() ? NULL : realloc(p, n ? n : 1); }
 
+void *bc__grow(void *p, size_t n, size_t *cap, size_t elem, size_t first)
+{
+	if (n < *cap)
+		return p;
+	size_t nc = *cap ? *cap * 2 : first;
+	void *q = bc__realloc(p, nc * elem);
+	if (q)
+		*cap = nc;
+	return q;
+}
+
 char *bc__strndup(const char *s, size_t n)
 {
 	char *d = bc__malloc(n + 1);

@@ -3,6 +3,7 @@
  * error messages stay one printable line whatever text they quote.
  */
 #include "test.h"
+#include "internal.h"
 #include "csvio.h"
 
 #include <stdlib.h>
@@ -63,4 +64,29 @@ TEST(harden_csv_bare_cr_counts_as_a_line_end)
 	int rc = bc_csv__next(c, &err);
 	bc_csv__free(c);
 	CHECK_INT(rc, 0);
+}
+
+/* bc__grow: room for one more element; doubles; on failure the array is
+ * untouched and still the caller's. */
+TEST(util_grow_doubles_and_keeps_on_failure)
+{
+	size_t cap = 0;
+	int *a = bc__grow(NULL, 0, &cap, sizeof *a, 4);
+	CHECK(a != NULL);
+	CHECK_INT(cap, 4);
+	for (int i = 0; i < 4; i++)
+		a[i] = i;
+	CHECK(bc__grow(a, 3, &cap, sizeof *a, 4) == a); /* room left: no change */
+	CHECK_INT(cap, 4);
+	int *b = bc__grow(a, 4, &cap, sizeof *b, 4);
+	CHECK(b != NULL);
+	CHECK_INT(cap, 8);
+	CHECK_INT(b[3], 3);
+	bc__alloc_fail_after(1);
+	int *c = bc__grow(b, 8, &cap, sizeof *c, 4);
+	bc__alloc_fail_after(0);
+	CHECK(c == NULL);
+	CHECK_INT(cap, 8);
+	CHECK_INT(b[2], 2);
+	free(b);
 }
