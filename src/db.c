@@ -82,6 +82,13 @@ int bc_db__bind_int64(sqlite3_stmt *st, const char *name, int64_t value)
 }
 
 int bc_db__begin(bc_db *db, bc_err *err) { return bc_db__exec(db, "BEGIN IMMEDIATE", err); }
+int bc_db__try_begin(bc_db *db)
+{
+	sqlite3_busy_timeout(db->sql, 0);
+	int rc = sqlite3_exec(db->sql, "BEGIN IMMEDIATE", NULL, NULL, NULL) == SQLITE_OK ? BC_OK : BC_EBUSY;
+	sqlite3_busy_timeout(db->sql, BUSY_TIMEOUT_MS);
+	return rc;
+}
 int bc_db__commit(bc_db *db, bc_err *err) { return bc_db__exec(db, "COMMIT", err); }
 void bc_db__rollback(bc_db *db)
 {

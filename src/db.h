@@ -37,6 +37,8 @@ int bc_db__bind_int64(sqlite3_stmt *st, const char *name, int64_t value);
 int bc_db__begin(bc_db *db, bc_err *err);
 int bc_db__commit(bc_db *db, bc_err *err);
 void bc_db__rollback(bc_db *db);
+/** BEGIN IMMEDIATE without waiting: BC_EBUSY when another connection writes (no message). */
+int bc_db__try_begin(bc_db *db);
 
 /* Seeding hooks run by bc_db_create inside its transaction. Each module
  * that owns shipped reference data implements one. */

@@ -10,6 +10,7 @@
 #include "dwca.h"
 #include "geo.h"
 #include "locality.h"
+#include "snapshot.h"
 #include "vocab.h"
 
 #include <math.h>
@@ -1267,6 +1268,7 @@ int bc_import_file(bc_import_result *out, bc_db *db, const char *path, const bc_
 	im.name = im.o->display_name ? im.o->display_name : path;
 	char sha[65];
 	int in_tx = 0, fk_was_on = 0;
+	char *snap_trigger = NULL; /* the snapshot's insert trigger, put back before COMMIT */
 	bc_buf options = {0};
 	int64_t vocab_id;
 	sqlite3_stmt *st = NULL;
@@ -1373,6 +1375,9 @@ int bc_import_file(bc_import_result *out, bc_db *db, const char *path, const bc_
 		if (expect > 100000 && (double)expect > stored && (rc = indexes_drop(db, &saved, err)))
 			goto done;
 	}
+	/* The column snapshot is emptied here, not by a trigger per row. */
+	if ((rc = bc_snapshot__suspend(db, &snap_trigger, err)))
+		goto done;
 	if ((rc = prepare_all(&im, err)))
 		goto done;
 	im.size = im.dwca ? 0 : bc_csv__size(im.csv);
@@ -1417,7 +1422,7 @@ int bc_import_file(bc_import_result *out, bc_db *db, const char *path, const bc_
 	bc_locality__cache_free(im.loc);
 	im.st_occ = im.st_q = NULL;
 	im.loc = NULL;
-	if ((rc = indexes_restore(db, &saved, err)))
+	if ((rc = indexes_restore(db, &saved, err)) || (rc = bc_snapshot__resume(db, snap_trigger, err)))
 		goto done;
 	if (im.o->dry_run) {
 		bc_db__rollback(db);
@@ -1437,5 +1442,6 @@ done:
 		bc_db__exec(db, "PRAGMA foreign_keys = ON", NULL);
 	bc__buf_free(&options);
 	indexes_free(&saved);
+	free(snap_trigger);
 	return rc;
 }

@@ -567,64 +567,176 @@ static void loc_coverage_zero(bc_coverage *out, double cell_km)
 	out->min_lat = out->max_lat = out->lat_range = NAN;
 }
 
-int bc_coverage_points(bc_coverage *out, const double *lon, const double *lat, size_t n,
-		       const bc_coverage_options *opts, bc_err *err)
+/* Points prepared once for the coverage of many subsets: each point's
+ * equal-area cell and its distinct position as dense indices, so a subset
+ * needs neither PROJ nor a sort. */
+struct bc_coverage__set {
+	size_t n, n_cells, n_pts;
+	double cell_km;
+	size_t mst_max_points;
+	double *lat;         /* per point */
+	uint32_t *cell;      /* per point: dense cell index */
+	uint32_t *pt;        /* per point: dense distinct-position index, in (lat, lon) order */
+	uint8_t *bad;        /* per point: off the globe */
+	loc_ll *pos;         /* per distinct position */
+	uint32_t *cell_seen, *pt_seen, stamp; /* which cells and positions the current subset has */
+	loc_ll *tree;        /* the subset's distinct positions, for the tree */
+};
+
+/* Dense ranks of `n` keys: equal keys, equal rank, in key order. */
+typedef struct loc_rank {
+	int64_t cell;
+	loc_ll ll;
+	size_t i;
+} loc_rank;
+
+static int loc_rank_cell(const void *a, const void *b)
+{
+	return loc_i64_cmp(&((const loc_rank *)a)->cell, &((const loc_rank *)b)->cell);
+}
+
+static int loc_rank_ll(const void *a, const void *b)
+{
+	return loc_ll_cmp(&((const loc_rank *)a)->ll, &((const loc_rank *)b)->ll);
+}
+
+void bc_coverage__set_free(bc_coverage__set *c)
+{
+	if (!c)
+		return;
+	free(c->lat);
+	free(c->cell);
+	free(c->pt);
+	free(c->bad);
+	free(c->pos);
+	free(c->cell_seen);
+	free(c->pt_seen);
+	free(c->tree);
+	free(c);
+}
+
+int bc_coverage__set_new(bc_coverage__set **out, bc_geo *geo, const double *lon, const double *lat, size_t n,
+			 const bc_coverage_options *opts, bc_err *err)
 {
 	bc_coverage_options def = BC_COVERAGE_OPTIONS_INIT;
+	*out = NULL;
 	if (!opts)
 		opts = &def;
 	if (!(opts->cell_km > 0) || !isfinite(opts->cell_km))
 		return bc_err_set(err, BC_EINVALID, "cell size must be a positive number of km, got %g", opts->cell_km);
-	loc_coverage_zero(out, opts->cell_km);
-	for (size_t i = 0; i < n; i++)
-		if (!isfinite(lon[i]) || !isfinite(lat[i]) || fabs(lon[i]) > 180 || fabs(lat[i]) > 90)
-			return bc_err_set(err, BC_EINVALID, "point %zu is off the globe (longitude %g, latitude %g)", i + 1, lon[i], lat[i]);
-	if (n == 0)
-		return BC_OK;
-	loc_ll *pts = bc__malloc(n * sizeof *pts);
-	int64_t *cells = bc__malloc(n * sizeof *cells);
-	bc_geo *g = NULL;
-	int rc = pts && cells ? bc_geo__new(&g, err) : bc_err_set(err, BC_ENOMEM, "out of memory");
+	if (n >= UINT32_MAX)
+		return bc_err_set(err, BC_EINVALID, "too many points for a coverage");
+	bc_coverage__set *c = bc__calloc(1, sizeof *c);
+	size_t m = n ? n : 1;
+	loc_rank *r = bc__malloc(m * sizeof *r);
+	bc_geo *g = geo;
+	int rc = BC_OK;
+	if (!c || !r || !(c->lat = bc__malloc(m * sizeof *c->lat)) || !(c->cell = bc__malloc(m * sizeof *c->cell)) ||
+	    !(c->pt = bc__malloc(m * sizeof *c->pt)) || !(c->bad = bc__calloc(m, 1)) || !(c->pos = bc__malloc(m * sizeof *c->pos)) ||
+	    !(c->cell_seen = bc__calloc(m, sizeof *c->cell_seen)) || !(c->pt_seen = bc__calloc(m, sizeof *c->pt_seen)) ||
+	    !(c->tree = bc__malloc(m * sizeof *c->tree)))
+		rc = bc_err_set(err, BC_ENOMEM, "out of memory");
+	if (rc == BC_OK && !g && n)
+		rc = bc_geo__new(&g, err);
 	double size_m = opts->cell_km * 1000.0;
 	for (size_t i = 0; rc == BC_OK && i < n; i++) {
-		pts[i] = (loc_ll){lon[i], lat[i]};
+		c->lat[i] = lat[i];
+		r[i] = (loc_rank){0, {lon[i], lat[i]}, i};
+		if (!isfinite(lon[i]) || !isfinite(lat[i]) || fabs(lon[i]) > 180 || fabs(lat[i]) > 90) {
+			c->bad[i] = 1;
+			continue;
+		}
 		double x = lon[i], y = lat[i];
 		/* EPSG:6933, WGS 84 / NSIDC EASE-Grid 2.0 Global: Lambert
 		 * cylindrical equal-area, so equal cells in metres are equal areas. */
 		rc = bc_geo__transform(g, "EPSG:4326", "EPSG:6933", &x, &y, err);
-		if (rc)
-			break;
 		int64_t cx = (int64_t)floor(x / size_m), cy = (int64_t)floor(y / size_m);
-		cells[i] = cx * 4000003 + cy; /* |cy| < 2e6 even for 1 m cells at +-86 */
+		r[i].cell = cx * 4000003 + cy; /* |cy| < 2e6 even for 1 m cells at +-86 */
 	}
 	if (rc == BC_OK) {
-		out->n_localities = n;
-		out->min_lat = out->max_lat = lat[0];
-		for (size_t i = 1; i < n; i++) {
-			out->min_lat = fmin(out->min_lat, lat[i]);
-			out->max_lat = fmax(out->max_lat, lat[i]);
+		qsort(r, n, sizeof *r, loc_rank_cell);
+		for (size_t i = 0; i < n; i++) {
+			c->n_cells += i == 0 || r[i].cell != r[i - 1].cell;
+			c->cell[r[i].i] = (uint32_t)(c->n_cells - 1);
 		}
-		out->lat_range = out->max_lat - out->min_lat;
-		qsort(cells, n, sizeof *cells, loc_i64_cmp);
-		for (size_t i = 0; i < n; i++)
-			if (i == 0 || cells[i] != cells[i - 1])
-				out->n_cells++;
-		/* identical points add nothing to the tree */
-		qsort(pts, n, sizeof *pts, loc_ll_cmp);
-		size_t m = 0;
-		for (size_t i = 0; i < n; i++)
-			if (m == 0 || loc_ll_cmp(&pts[i], &pts[m - 1]) != 0)
-				pts[m++] = pts[i];
-		double mst = 0;
-		if (opts->mst_max_points && m > opts->mst_max_points)
-			mst = NAN; /* the caller's limit on the O(n^2) tree */
-		else
-			rc = loc_mst_m(pts, m, &mst, err);
-		out->mst_km = mst / 1000.0;
+		qsort(r, n, sizeof *r, loc_rank_ll);
+		for (size_t i = 0; i < n; i++) {
+			if (i == 0 || loc_ll_cmp(&r[i].ll, &r[i - 1].ll) != 0)
+				c->pos[c->n_pts++] = r[i].ll;
+			c->pt[r[i].i] = (uint32_t)(c->n_pts - 1);
+		}
+		c->n = n;
+		c->cell_km = opts->cell_km;
+		c->mst_max_points = opts->mst_max_points;
+		*out = c;
+		c = NULL;
 	}
-	bc_geo__free(g);
-	free(pts);
-	free(cells);
+	if (g != geo)
+		bc_geo__free(g);
+	free(r);
+	bc_coverage__set_free(c);
+	return rc;
+}
+
+int bc_coverage__set_of(bc_coverage *out, bc_coverage__set *c, const size_t *idx, size_t m, bc_err *err)
+{
+	loc_coverage_zero(out, c->cell_km);
+	if (m == 0)
+		return BC_OK;
+	if (++c->stamp == 0) { /* wrapped: start the marks again */
+		memset(c->cell_seen, 0, (c->n ? c->n : 1) * sizeof *c->cell_seen);
+		memset(c->pt_seen, 0, (c->n ? c->n : 1) * sizeof *c->pt_seen);
+		c->stamp = 1;
+	}
+	out->min_lat = out->max_lat = c->lat[idx[0]];
+	for (size_t k = 0; k < m; k++) {
+		size_t i = idx[k];
+		if (c->bad[i])
+			return bc_err_set(err, BC_EINVALID, "point %zu is off the globe (latitude %g)", k + 1, c->lat[i]);
+		out->min_lat = fmin(out->min_lat, c->lat[i]);
+		out->max_lat = fmax(out->max_lat, c->lat[i]);
+		if (c->cell_seen[c->cell[i]] != c->stamp) {
+			c->cell_seen[c->cell[i]] = c->stamp;
+			out->n_cells++;
+		}
+		c->pt_seen[c->pt[i]] = c->stamp;
+	}
+	out->n_localities = m;
+	out->lat_range = out->max_lat - out->min_lat;
+	/* identical points add nothing to the tree; in (lat, lon) order */
+	size_t np = 0;
+	for (size_t p = 0; p < c->n_pts; p++)
+		if (c->pt_seen[p] == c->stamp)
+			c->tree[np++] = c->pos[p];
+	double mst = 0;
+	int rc = BC_OK;
+	if (c->mst_max_points && np > c->mst_max_points)
+		mst = NAN; /* the caller's limit on the O(n^2) tree */
+	else
+		rc = loc_mst_m(c->tree, np, &mst, err);
+	out->mst_km = mst / 1000.0;
+	return rc;
+}
+
+int bc_coverage_points(bc_coverage *out, const double *lon, const double *lat, size_t n,
+		       const bc_coverage_options *opts, bc_err *err)
+{
+	bc_coverage__set *c = NULL;
+	bc_coverage_options def = BC_COVERAGE_OPTIONS_INIT;
+	loc_coverage_zero(out, opts ? opts->cell_km : def.cell_km);
+	for (size_t i = 0; i < n; i++)
+		if (!isfinite(lon[i]) || !isfinite(lat[i]) || fabs(lon[i]) > 180 || fabs(lat[i]) > 90)
+			return bc_err_set(err, BC_EINVALID, "point %zu is off the globe (longitude %g, latitude %g)", i + 1, lon[i], lat[i]);
+	size_t *idx = bc__malloc((n ? n : 1) * sizeof *idx);
+	if (!idx)
+		return bc_err_set(err, BC_ENOMEM, "out of memory");
+	for (size_t i = 0; i < n; i++)
+		idx[i] = i;
+	int rc = bc_coverage__set_new(&c, NULL, lon, lat, n, opts, err);
+	if (rc == BC_OK)
+		rc = bc_coverage__set_of(out, c, idx, n, err);
+	bc_coverage__set_free(c);
+	free(idx);
 	return rc;
 }
 

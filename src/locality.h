@@ -9,6 +9,7 @@
 #define BC_LOCALITY_H
 
 #include "db.h"
+#include "geo.h"
 
 /** What one row says about its locality. Strings may be NULL (= ""). */
 typedef struct bc_locality_input {
@@ -46,6 +47,19 @@ void bc_locality__cache_free(bc_locality_cache *lc);
  * only one of lon/lat.
  */
 int bc_locality__get_or_create(bc_locality_cache *lc, const bc_locality_input *in, int64_t *fid, bc_err *err);
+
+/**
+ * Points prepared once for the coverage of many subsets of them (one per
+ * bin): each point projected and given its cell once. `geo` NULL: a geo
+ * handle is made for the call. Points off the globe are refused only
+ * when a subset uses them.
+ */
+typedef struct bc_coverage__set bc_coverage__set;
+int bc_coverage__set_new(bc_coverage__set **out, bc_geo *geo, const double *lon, const double *lat, size_t n,
+			 const bc_coverage_options *opts, bc_err *err);
+/** Coverage of the points idx[0 .. m) of the set, as bc_coverage_points gives it. */
+int bc_coverage__set_of(bc_coverage *out, bc_coverage__set *c, const size_t *idx, size_t m, bc_err *err);
+void bc_coverage__set_free(bc_coverage__set *c);
 
 /** Recomputes the layer extent in gpkg_contents from the stored points. */
 int bc_locality__refresh_extent(bc_db *db, bc_err *err);

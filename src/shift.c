@@ -7,7 +7,9 @@
 #include "shift.h"
 
 #include "db.h"
+#include "locality.h"
 #include "output.h"
+#include "snapshot.h"
 #include "stats.h"
 
 #include <errno.h>
@@ -698,34 +700,250 @@ static int in_region(const double r[4], double lon, double lat)
 	return lon >= r[0] || lon <= r[2]; /* the box crosses the antimeridian */
 }
 
+/* --region: 1 when the row stays; else counts why it left. */
+static int region_keeps(const bc_shift_options *o, double lon, double lat, bc_shift__selected *out)
+{
+	if (!o->has_region)
+		return 1;
+	if (isnan(lon) || isnan(lat)) {
+		out->n_no_coordinates++;
+		return 0;
+	}
+	if (!in_region(o->region, lon, lat)) {
+		out->n_outside_region++;
+		return 0;
+	}
+	return 1;
+}
+
 /* The data hash covers every selected row (after --region) in
  * occurrence_pk order, as little-endian binary: pk int64, older, younger,
  * min depth, max depth as float64 (NULL = the quiet NaN 0x7ff8...0),
  * locality id int64 (-1 = none), then articulation and reference key as
  * uint32 length + UTF-8 bytes (ranges: then the name at the rank the same
  * way). doc/shift.md repeats this layout. */
-static void put_le64(struct sha256_ctx *h, uint64_t v)
+/* The hash is fed through a buffer: a few calls per 64 KB instead of seven per row. */
+typedef struct row_hash {
+	struct sha256_ctx h;
+	size_t n;
+	uint8_t buf[1 << 16];
+} row_hash;
+
+static void hash_bytes(row_hash *rh, const void *p, size_t n)
 {
-	uint8_t b[8];
-	for (int i = 0; i < 8; i++)
-		b[i] = (uint8_t)(v >> (8 * i));
-	sha256_update(h, 8, b);
+	if (rh->n + n > sizeof rh->buf) {
+		sha256_update(&rh->h, rh->n, rh->buf);
+		rh->n = 0;
+		if (n > sizeof rh->buf) {
+			sha256_update(&rh->h, n, p);
+			return;
+		}
+	}
+	memcpy(rh->buf + rh->n, p, n);
+	rh->n += n;
 }
 
-static void put_str(struct sha256_ctx *h, const char *s)
+static void put_le64(row_hash *rh, uint64_t v)
+{
+	uint8_t b[8];
+#if defined(__BYTE_ORDER__) && defined(__ORDER_LITTLE_ENDIAN__) && __BYTE_ORDER__ == __ORDER_LITTLE_ENDIAN__
+	memcpy(b, &v, 8);
+#else
+	for (int i = 0; i < 8; i++)
+		b[i] = (uint8_t)(v >> (8 * i));
+#endif
+	hash_bytes(rh, b, 8);
+}
+
+static void put_str(row_hash *rh, const char *s)
 {
 	size_t n = strlen(s);
 	uint8_t b[4] = {(uint8_t)n, (uint8_t)(n >> 8), (uint8_t)(n >> 16), (uint8_t)(n >> 24)};
-	sha256_update(h, 4, b);
-	sha256_update(h, n, (const uint8_t *)s);
+	hash_bytes(rh, b, 4);
+	hash_bytes(rh, s, n);
 }
 
-static void put_double(struct sha256_ctx *h, double v)
+static void put_double(row_hash *rh, double v)
 {
 	uint64_t bits = 0x7ff8000000000000ULL; /* NULL (SQLite stores no NaN) */
 	if (!isnan(v))
 		memcpy(&bits, &v, sizeof bits);
-	put_le64(h, bits);
+	put_le64(rh, bits);
+}
+
+/* Hashes one selected row and hands it to the caller. */
+static int emit_row(row_hash *rh, const bc_shift__row *r, bc_shift__row_fn fn, void *ctx, bc_err *err)
+{
+	put_le64(rh, (uint64_t)r->pk);
+	put_double(rh, r->older);
+	put_double(rh, r->younger);
+	put_double(rh, r->dmin);
+	put_double(rh, r->dmax);
+	put_le64(rh, (uint64_t)r->loc);
+	put_str(rh, r->art);
+	put_str(rh, r->ref);
+	if (r->name)
+		put_str(rh, r->name);
+	return fn(ctx, r, err);
+}
+
+static void hash_hex(row_hash *rh, char out[65])
+{
+	uint8_t d[SHA256_DIGEST_SIZE];
+	sha256_update(&rh->h, rh->n, rh->buf);
+	rh->n = 0;
+	sha256_digest(&rh->h, sizeof d, d);
+	for (int i = 0; i < SHA256_DIGEST_SIZE; i++)
+		snprintf(out + 2 * i, 3, "%02x", d[i]);
+}
+
+/* ---- the selection read from the column snapshot (snapshot.h) ---------- */
+
+enum { F_GROUP = 1, F_TAXON = 2, F_TAXON_PREFIX = 4, F_ARTIC = 8, F_PRES = 16 };
+
+/* Each distinct string once against the selection, with SQLite's own
+ * comparisons so both paths select the same rows: COLLATE NOCASE is
+ * sqlite3_stricmp, and LIKE 'taxon %' a case-blind (ASCII) prefix followed
+ * by a space. */
+static uint8_t *string_flags(const bc_snapshot *sn, const bc_shift_options *o, const char *artic)
+{
+	size_t n;
+	const char *const *str = bc_snapshot__strings(sn, &n);
+	uint8_t *f = bc__calloc(n ? n : 1, 1);
+	size_t tn = o->taxon ? strlen(o->taxon) : 0;
+	for (size_t i = 0; f && i < n; i++) {
+		const char *t = str[i];
+		if (o->group && sqlite3_stricmp(t, o->group) == 0)
+			f[i] |= F_GROUP;
+		if (o->taxon && sqlite3_stricmp(t, o->taxon) == 0)
+			f[i] |= F_TAXON;
+		if (o->taxon && sqlite3_strnicmp(t, o->taxon, (int)tn) == 0 && t[tn] == ' ')
+			f[i] |= F_TAXON_PREFIX;
+		if (artic && sqlite3_stricmp(t, artic) == 0)
+			f[i] |= F_ARTIC;
+		if (!artic && o->preservation && sqlite3_stricmp(t, o->preservation) == 0)
+			f[i] |= F_PRES;
+	}
+	return f;
+}
+
+/* Locality coordinates by fid for --region: sorted fids, NaN when none. */
+typedef struct fid_coords {
+	int64_t *fid;
+	double *lon, *lat;
+	size_t n;
+} fid_coords;
+
+static int fid_coords_load(fid_coords *fc, bc_db *db, bc_err *err)
+{
+	sqlite3_stmt *st = NULL;
+	size_t cap = 0;
+	int rc = bc_db__prepare(db, &st, "SELECT fid, longitude, latitude FROM localities ORDER BY fid", err), step = SQLITE_DONE;
+	while (rc == BC_OK && (step = sqlite3_step(st)) == SQLITE_ROW) {
+		size_t c = cap;
+		int64_t *f = bc__grow(fc->fid, fc->n, &c, sizeof *f, 1024);
+		double *x = f ? bc__realloc(fc->lon, c * sizeof *x) : NULL;
+		double *y = x ? bc__realloc(fc->lat, c * sizeof *y) : NULL;
+		fc->fid = f ? f : fc->fid;
+		fc->lon = x ? x : fc->lon;
+		fc->lat = y ? y : fc->lat;
+		if (!y) {
+			rc = oom(err);
+			break;
+		}
+		cap = c;
+		fc->fid[fc->n] = sqlite3_column_int64(st, 0);
+		fc->lon[fc->n] = sqlite3_column_type(st, 1) == SQLITE_NULL ? NAN : sqlite3_column_double(st, 1);
+		fc->lat[fc->n] = sqlite3_column_type(st, 2) == SQLITE_NULL ? NAN : sqlite3_column_double(st, 2);
+		fc->n++;
+	}
+	if (rc == BC_OK && step != SQLITE_DONE)
+		rc = bc_db__error(db, err, "reading locality coordinates");
+	sqlite3_finalize(st);
+	return rc;
+}
+
+static void fid_coords_find(const fid_coords *fc, int64_t fid, double *lon, double *lat)
+{
+	size_t lo = 0, hi = fc->n;
+	while (lo < hi) {
+		size_t mid = (lo + hi) / 2;
+		if (fc->fid[mid] < fid)
+			lo = mid + 1;
+		else
+			hi = mid;
+	}
+	int hit = fid >= 0 && lo < fc->n && fc->fid[lo] == fid;
+	*lon = hit ? fc->lon[lo] : NAN;
+	*lat = hit ? fc->lat[lo] : NAN;
+}
+
+static int select_snapshot(bc_snapshot *sn, bc_db *db, const bc_shift_options *o, bc_shift__row_fn fn,
+			   void *ctx, bc_shift__selected *out, row_hash *rh, bc_err *err)
+{
+	int artic = art_class(o->preservation);
+	uint8_t *f = string_flags(sn, o, artic >= 0 ? art_classes[artic] : NULL);
+	size_t n_str;
+	const char *const *str = bc_snapshot__strings(sn, &n_str);
+	fid_coords fc = {0};
+	int rc = f ? BC_OK : oom(err), more = 0;
+	if (rc == BC_OK && o->has_region)
+		rc = fid_coords_load(&fc, db, err);
+	bc_snapshot_rows c;
+	while (rc == BC_OK && (more = bc_snapshot__next(sn, &c, err)) == 1) {
+		const uint32_t *const *t = c.text;
+		for (size_t i = 0; rc == BC_OK && i < c.n; i++) {
+			if (o->group && !(f[t[BC_SNAP_GROUP][i]] & F_GROUP))
+				continue;
+			if (o->taxon && !((f[t[BC_SNAP_NAME][i]] & (F_TAXON | F_TAXON_PREFIX)) || (f[t[BC_SNAP_GENUS][i]] & F_TAXON) ||
+					  (f[t[BC_SNAP_FAMILY][i]] & F_TAXON) || (f[t[BC_SNAP_ORDER][i]] & F_TAXON)))
+				continue;
+			if (artic >= 0 && !(f[t[BC_SNAP_ARTICULATION][i]] & F_ARTIC))
+				continue;
+			if (artic < 0 && o->preservation && !(f[t[BC_SNAP_PRESERVATION][i]] & F_PRES))
+				continue;
+			out->n_selected++;
+			bc_shift__row r;
+			r.lon = r.lat = NAN;
+			if (o->has_region)
+				fid_coords_find(&fc, c.loc[i], &r.lon, &r.lat);
+			if (!region_keeps(o, r.lon, r.lat, out))
+				continue;
+			r.pk = c.pk[i];
+			r.older = c.older[i];
+			r.younger = c.younger[i];
+			r.dmin = c.dmin[i];
+			r.dmax = c.dmax[i];
+			r.loc = c.loc[i];
+			r.art_id = t[BC_SNAP_ARTICULATION][i];
+			r.ref_id = t[BC_SNAP_REFERENCE][i];
+			r.n_ids = n_str;
+			r.art = str[r.art_id];
+			r.ref = str[r.ref_id];
+			r.name = NULL;
+			rc = emit_row(rh, &r, fn, ctx, err);
+		}
+	}
+	if (rc == BC_OK && more < 0)
+		rc = more;
+	free(f);
+	free(fc.fid);
+	free(fc.lon);
+	free(fc.lat);
+	return rc;
+}
+
+/* The text columns the selection needs from the snapshot. */
+static unsigned snapshot_want(const bc_shift_options *o)
+{
+	unsigned w = 0;
+	if (o->group)
+		w |= BC_SNAP_BIT(BC_SNAP_GROUP);
+	if (o->taxon)
+		w |= BC_SNAP_BIT(BC_SNAP_NAME) | BC_SNAP_BIT(BC_SNAP_GENUS) | BC_SNAP_BIT(BC_SNAP_FAMILY) | BC_SNAP_BIT(BC_SNAP_ORDER);
+	if (o->preservation && art_class(o->preservation) < 0)
+		w |= BC_SNAP_BIT(BC_SNAP_PRESERVATION);
+	return w;
 }
 
 int bc_shift__select(bc_db *db, const bc_shift_options *o, const char *rank, bc_shift__row_fn fn, void *ctx,
@@ -733,11 +951,29 @@ int bc_shift__select(bc_db *db, const bc_shift_options *o, const char *rank, bc_
 {
 	sqlite3_stmt *st = NULL;
 	char *prefix = NULL;
-	struct sha256_ctx hash;
+	row_hash *rh = bc__malloc(sizeof *rh);
 	memset(out, 0, sizeof *out);
-	int rc = bc_db__prepare(db, &st, o->has_region ? SQL_SELECT_REGION : SQL_SELECT, err);
-	if (rc)
+	if (!rh)
+		return oom(err);
+	sha256_init(&rh->h);
+	rh->n = 0;
+	/* Without a rank, from the column snapshot when there is one. */
+	bc_snapshot *sn = NULL;
+	int rc = rank ? BC_OK : bc_snapshot__load(&sn, db, snapshot_want(o), err);
+	if (rc == BC_OK && sn) {
+		rc = select_snapshot(sn, db, o, fn, ctx, out, rh, err);
+		bc_snapshot__free(sn);
+		if (rc == BC_OK)
+			hash_hex(rh, out->data_sha256);
+		free(rh);
 		return rc;
+	}
+	if (rc == BC_OK)
+		rc = bc_db__prepare(db, &st, o->has_region ? SQL_SELECT_REGION : SQL_SELECT, err);
+	if (rc) {
+		free(rh);
+		return rc;
+	}
 	int artic = art_class(o->preservation);
 	if (o->taxon) {
 		/* "Genus" also matches "Genus species ..." in scientific_name. */
@@ -762,24 +998,16 @@ int bc_shift__select(bc_db *db, const bc_shift_options *o, const char *rank, bc_
 	bc_db__bind_text(st, ":taxon_prefix", prefix);
 	bc_db__bind_text(st, ":artic", artic >= 0 ? art_classes[artic] : NULL);
 	bc_db__bind_text(st, ":pres", artic >= 0 ? NULL : o->preservation);
-	sha256_init(&hash);
 	int step;
 	while ((step = sqlite3_step(st)) == SQLITE_ROW) {
 		out->n_selected++;
 		/* Each column is read once, in order. */
 		bc_shift__row r;
+		r.n_ids = 0;
 		r.lon = sqlite3_column_type(st, 8) == SQLITE_NULL ? NAN : sqlite3_column_double(st, 8);
 		r.lat = sqlite3_column_type(st, 9) == SQLITE_NULL ? NAN : sqlite3_column_double(st, 9);
-		if (o->has_region) {
-			if (isnan(r.lon) || isnan(r.lat)) {
-				out->n_no_coordinates++;
-				continue;
-			}
-			if (!in_region(o->region, r.lon, r.lat)) {
-				out->n_outside_region++;
-				continue;
-			}
-		}
+		if (!region_keeps(o, r.lon, r.lat, out))
+			continue;
 		r.pk = sqlite3_column_int64(st, 0);
 		double *v[4] = {&r.older, &r.younger, &r.dmin, &r.dmax};
 		for (int c = 0; c < 4; c++)
@@ -792,28 +1020,18 @@ int bc_shift__select(bc_db *db, const bc_shift_options *o, const char *rank, bc_
 		r.art = r.art ? r.art : "";
 		if (rank && !r.name)
 			r.name = "";
-		put_le64(&hash, (uint64_t)r.pk);
-		for (int c = 0; c < 4; c++)
-			put_double(&hash, *v[c]);
-		put_le64(&hash, (uint64_t)r.loc);
-		put_str(&hash, r.art);
-		put_str(&hash, r.ref);
-		if (rank)
-			put_str(&hash, r.name);
-		if ((rc = fn(ctx, &r, err)) != BC_OK)
+		if ((rc = emit_row(rh, &r, fn, ctx, err)) != BC_OK)
 			goto done;
 	}
 	if (step != SQLITE_DONE) {
 		rc = bc_db__error(db, err, "reading occurrences");
 		goto done;
 	}
-	uint8_t d[SHA256_DIGEST_SIZE];
-	sha256_digest(&hash, sizeof d, d);
-	for (int i = 0; i < SHA256_DIGEST_SIZE; i++)
-		snprintf(out->data_sha256 + 2 * i, 3, "%02x", d[i]);
+	hash_hex(rh, out->data_sha256);
 done:
 	sqlite3_finalize(st);
 	free(prefix);
+	free(rh);
 	return rc;
 }
 
@@ -832,7 +1050,48 @@ typedef struct load_ctx {
 	int64_t maxloc;
 	int last_class;
 	char last_art[64];
+	int32_t *id_ref;  /* snapshot string index -> interned reference (-2: not yet) */
+	int8_t *id_class; /* snapshot string index -> articulation class (-2: not yet) */
 } load_ctx;
+
+/* The articulation class of a row's text, remembering the last one. */
+static int row_class(load_ctx *c, const char *art)
+{
+	if (strcmp(art, c->last_art) != 0) {
+		c->last_class = art_class(art);
+		snprintf(c->last_art, sizeof c->last_art, "%s", art);
+	}
+	return strlen(art) < sizeof c->last_art ? c->last_class : art_class(art);
+}
+
+/* Interned reference and class of a row: through the snapshot's indices
+ * when it has them (each distinct string mapped once), else by text. */
+static int row_ref_class(load_ctx *c, const bc_shift__row *r, int32_t *ref, int *cls)
+{
+	if (r->n_ids && !c->id_ref) {
+		c->id_ref = bc__malloc(r->n_ids * sizeof *c->id_ref);
+		c->id_class = bc__malloc(r->n_ids * sizeof *c->id_class);
+		if (!c->id_ref || !c->id_class)
+			return BC_ENOMEM;
+		for (size_t i = 0; i < r->n_ids; i++)
+			c->id_ref[i] = c->id_class[i] = -2;
+	}
+	if (!r->n_ids) {
+		*ref = -1;
+		*cls = row_class(c, r->art);
+		return *r->ref ? intern(c->s, &c->refs, r->ref, ref) : BC_OK;
+	}
+	if (c->id_class[r->art_id] == -2)
+		c->id_class[r->art_id] = (int8_t)art_class(r->art);
+	*cls = c->id_class[r->art_id];
+	if (c->id_ref[r->ref_id] == -2) {
+		c->id_ref[r->ref_id] = -1;
+		if (*r->ref && intern(c->s, &c->refs, r->ref, &c->id_ref[r->ref_id]))
+			return BC_ENOMEM;
+	}
+	*ref = c->id_ref[r->ref_id];
+	return BC_OK;
+}
 
 static int load_row(void *ctx, const bc_shift__row *r, bc_err *err)
 {
@@ -860,15 +1119,9 @@ static int load_row(void *ctx, const bc_shift__row *r, bc_err *err)
 	/* One depth alone stands for the range [d, d]. */
 	o->dmin = isnan(r->dmin) ? r->dmax : r->dmin;
 	o->dmax = isnan(r->dmax) ? r->dmin : r->dmax;
-	o->ref = -1;
-	if (*r->ref && intern(s, &c->refs, r->ref, &o->ref))
+	int a;
+	if (row_ref_class(c, r, &o->ref, &a))
 		return oom(err);
-	/* the class of the previous row is usually the same */
-	if (strcmp(r->art, c->last_art) != 0) {
-		c->last_class = art_class(r->art);
-		snprintf(c->last_art, sizeof c->last_art, "%s", r->art);
-	}
-	int a = strlen(r->art) < sizeof c->last_art ? c->last_class : art_class(r->art);
 	o->artic = (uint8_t)(a < 0 ? BC_SHIFT__ART_UNKNOWN : a);
 	int z2 = bc_shift__zone(o->dmin, o->dmax, s->opts.zones, 1);
 	o->zone2 = (uint8_t)(z2 < 0 ? BC_SHIFT__STRADDLE : z2);
@@ -926,7 +1179,7 @@ static int load_coordinates(bc_shift *s, bc_db *db, const int64_t *u, bc_err *er
 
 static int load(bc_shift *s, bc_db *db, bc_err *err)
 {
-	load_ctx c = {s, {NULL, 0}, NULL, 0, -1, -1, ""};
+	load_ctx c = {s, {NULL, 0}, NULL, 0, -1, -1, "", NULL, NULL};
 	int64_t *u = NULL; /* sorted distinct fids when they are not used directly */
 	bc_shift__selected sel;
 	int rc = bc_shift__select(db, &s->opts, NULL, load_row, &c, &sel, err);
@@ -981,6 +1234,8 @@ done:
 	free(u);
 	free(c.refs.slot);
 	free(c.locids);
+	free(c.id_ref);
+	free(c.id_class);
 	return rc;
 }
 
@@ -1061,64 +1316,54 @@ static void bin_stats(bc_shift *s, const double *counts, const size_t *nrefs, co
 	}
 }
 
-typedef struct lonlat {
-	double lon, lat;
-} lonlat;
-
-static int lonlat_cmp(const void *a, const void *b)
-{
-	const lonlat *p = a, *q = b;
-	if (p->lon != q->lon)
-		return p->lon < q->lon ? -1 : 1;
-	return (p->lat > q->lat) - (p->lat < q->lat);
-}
-
 /* Spatial coverage of each reported bin: the localities counted in its
- * n_localities (bit l * ncand + first + i of `lbits`), their coordinates
- * through the geo module's bc_coverage_points. */
+ * n_localities (bit l * ncand + first + i of `lbits`), through the geo
+ * module's coverage, with every located locality projected once. */
 static int bin_coverage(bc_shift *s, const uint64_t *lbits, size_t ncand, size_t first, bc_err *err)
 {
 	bc_coverage_options co = BC_COVERAGE_OPTIONS_INIT;
 	co.cell_km = s->opts.cell_km;
 	co.mst_max_points = BC_SHIFT_MST_MAX_POINTS;
-	double *lon = bc__malloc((s->nloc ? s->nloc : 1) * sizeof *lon), *lat = bc__malloc((s->nloc ? s->nloc : 1) * sizeof *lat);
-	lonlat *pt = bc__malloc((s->nloc ? s->nloc : 1) * sizeof *pt);
-	int rc = lon && lat && pt ? BC_OK : oom(err);
+	size_t m = s->nloc ? s->nloc : 1, nset = 0;
+	double *lon = bc__malloc(m * sizeof *lon), *lat = bc__malloc(m * sizeof *lat);
+	size_t *at = bc__malloc(m * sizeof *at), *idx = bc__malloc(m * sizeof *idx); /* locality -> set point */
+	bc_coverage__set *set = NULL;
+	int rc = lon && lat && at && idx ? BC_OK : oom(err);
+	for (size_t l = 0; rc == BC_OK && l < s->nloc; l++) {
+		at[l] = SIZE_MAX;
+		if (isnan(s->loc_lon[l]))
+			continue;
+		lon[nset] = s->loc_lon[l];
+		lat[nset] = s->loc_lat[l];
+		at[l] = nset++;
+	}
+	if (rc == BC_OK)
+		rc = bc_coverage__set_new(&set, NULL, lon, lat, nset, &co, err);
 	for (size_t i = 0; rc == BC_OK && i < s->nbins; i++) {
 		bc_shift_bin *b = &s->out[i];
-		size_t m = 0, unloc = 0, k = first + i;
+		size_t n = 0, unloc = 0, k = first + i;
 		for (size_t l = 0; l < s->nloc; l++) {
 			if (!bit_get(lbits, l * ncand + k))
 				continue;
-			if (isnan(s->loc_lon[l])) {
+			if (at[l] == SIZE_MAX)
 				unloc++;
-				continue;
-			}
-			pt[m++] = (lonlat){s->loc_lon[l], s->loc_lat[l]};
+			else
+				idx[n++] = at[l];
 		}
-		/* Localities at the same point add no cell, latitude or tree
-		 * length: each point goes to the geo module once. */
-		qsort(pt, m, sizeof *pt, lonlat_cmp);
-		size_t np = 0;
-		for (size_t j = 0; j < m; j++)
-			if (np == 0 || lonlat_cmp(&pt[j], &pt[np - 1]) != 0) {
-				lon[np] = pt[j].lon;
-				lat[np] = pt[j].lat;
-				pt[np++] = pt[j];
-			}
-		m = np;
 		bc_coverage cv;
 		b->n_unlocated = unloc;
-		if ((rc = bc_coverage_points(&cv, lon, lat, m, &co, err)) != BC_OK)
+		if ((rc = bc_coverage__set_of(&cv, set, idx, n, err)) != BC_OK)
 			break;
 		b->n_cells = cv.n_cells;
 		b->lat_range_deg = cv.lat_range;
 		b->mst_km = cv.mst_km;
 		s->sum.n_bins_mst_skipped += (size_t)isnan(cv.mst_km);
 	}
+	bc_coverage__set_free(set);
 	free(lon);
 	free(lat);
-	free(pt);
+	free(at);
+	free(idx);
 	return rc;
 }
 

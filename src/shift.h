@@ -119,6 +119,11 @@ typedef struct bc_shift__row {
 	double lon, lat;        /* the locality's WGS 84 coordinates with --region; NaN when none or no region */
 	const char *ref, *art;  /* reference key, articulation class; "" when none */
 	const char *name;       /* the name at the rank asked ("" when none); NULL when no rank */
+	/* From the column snapshot: ref and art as indices into its table of
+	 * n_ids distinct strings (the same string, the same index), so a
+	 * reader can map each distinct string once. n_ids 0: no indices. */
+	uint32_t ref_id, art_id;
+	size_t n_ids;
 } bc_shift__row;
 
 /** Called once per selected row; a non-zero return stops the selection and is returned. */

@@ -339,3 +339,61 @@ TEST(coverage_from_database)
 	CHECK_NEAR(some.mst_km, 2 * 111319.490793 / 1000, 1e-9);
 	CHECK_INT(rc4, BC_ENOTFOUND);
 }
+
+/* One prepared set, many subsets (as shift does per bin): each subset's
+ * coverage equals the coverage of the same points given on their own,
+ * whatever the subsets before it were (the marks are reused). */
+TEST(coverage_set_subsets_match_points)
+{
+	bc_err err = {0};
+	enum { N = 400 };
+	double lon[N], lat[N], sl[N], sb[N];
+	size_t idx[N];
+	unsigned r = 12345;
+	for (size_t i = 0; i < N; i++) {
+		r = r * 1103515245u + 12345u;
+		lon[i] = (double)((r >> 8) % 3600) / 10.0 - 180.0;
+		r = r * 1103515245u + 12345u;
+		lat[i] = (double)((r >> 8) % 1800) / 10.0 - 90.0;
+		if (i % 7 == 3) { /* repeated positions */
+			lon[i] = lon[i - 1];
+			lat[i] = lat[i - 1];
+		}
+	}
+	bc_coverage_options o = {250, 150};
+	bc_coverage__set *set = NULL;
+	int capped = 0, full = 0;
+	CHECK_OK(bc_coverage__set_new(&set, NULL, lon, lat, N, &o, &err), &err);
+	for (int round = 0; round < 30; round++) {
+		size_t m = 0;
+		for (size_t i = 0; i < N; i++) {
+			r = r * 1103515245u + 12345u;
+			if ((r >> 16) % 5 < (unsigned)(round % 5)) {
+				idx[m] = i;
+				sl[m] = lon[i];
+				sb[m] = lat[i];
+				m++;
+			}
+		}
+		bc_coverage a, b;
+		CHECK_OK(bc_coverage__set_of(&a, set, idx, m, &err), &err);
+		CHECK_OK(bc_coverage_points(&b, sl, sb, m, &o, &err), &err);
+		CHECK_INT(a.n_localities, m);
+		CHECK_INT(a.n_cells, b.n_cells);
+		CHECK((isnan(a.lat_range) && isnan(b.lat_range)) || a.lat_range == b.lat_range);
+		CHECK((isnan(a.mst_km) && isnan(b.mst_km)) || a.mst_km == b.mst_km);
+		capped += isnan(a.mst_km) && m > 150; /* above the limit on the tree */
+		full += !isnan(a.mst_km) && a.mst_km > 0;
+	}
+	CHECK(capped > 0 && full > 0); /* both kinds of subset were tried */
+	bc_coverage__set_free(set);
+	/* a point off the globe is refused when a subset uses it, not before */
+	double blon[] = {10, 500}, blat[] = {10, 10};
+	size_t first = 0, both[] = {0, 1};
+	bc_coverage cv;
+	CHECK_OK(bc_coverage__set_new(&set, NULL, blon, blat, 2, NULL, &err), &err);
+	CHECK_OK(bc_coverage__set_of(&cv, set, &first, 1, &err), &err);
+	CHECK_INT(cv.n_cells, 1);
+	CHECK_INT(bc_coverage__set_of(&cv, set, both, 2, &err), BC_EINVALID);
+	bc_coverage__set_free(set);
+}
