@@ -109,6 +109,11 @@ static inline size_t bc_shift__point_bin(const bc_shift__bin *bins, size_t nbins
 
 /* ---- the selection and stamp that shift and ranges share ---------- */
 
+/** The articulation class (BC_SHIFT__ART_*) a text names, or -1; accepts
+ * "partly-articulated" and "partly_articulated". Its name, or NULL. */
+int bc_shift__art_class(const char *s);
+const char *bc_shift__art_name(int c);
+
 /** One selected row (after --region), as bc_shift__select hands it over.
  * Strings are borrowed for the call only. */
 typedef struct bc_shift__row {
