@@ -159,6 +159,14 @@ typedef struct bc_shift__excluded {
 
 /** Appends "N why, N why" for the reasons with n > 0, comma-separated after any text already in `b`. */
 void bc_shift__excluded_words(bc_buf *b, const bc_shift__excluded *ex, size_t n);
+/** The selection of `o` in words ("group crinoids, taxon Aus"), for messages and the stamp. */
+void bc_shift__describe_selection(const bc_shift_options *o, bc_buf *b);
+/** Why the summary's occurrences were left out, in words. */
+void bc_shift__summary_excluded_words(const bc_shift_summary *u, bc_buf *b);
+
+/* The caution every shift output carries, and the note on the default split. */
+#define BC_SHIFT__CAUTION "Palaeodepths are interpretations, often from environment terms; bins with few occurrences are weak evidence; a shift can be an artefact of sampling, age uncertainty or transport."
+#define BC_SHIFT__SPLIT_NOTE "200 m is the conventional shelf edge (common practice, no source)"
 
 /**
  * BC_OK when the selection matched rows and `n_left` remain; otherwise
