@@ -20,8 +20,12 @@ typedef struct writer {
 
 static const char *const report_cols[] = {"problem", "batch", "file", "line", "key", "detail"};
 
+/* Tabs and line breaks become spaces; text starting = + - @ gets the same
+ * leading ' as in CSV, so a spreadsheet shows it instead of running it. */
 static void tsv_cell(bc_buf *b, const char *s)
 {
+	if (s[0] && strchr("=+-@\t\r", s[0]))
+		bc__buf_append(b, "'", 1);
 	for (; *s; s++)
 		bc__buf_append(b, *s == '\t' || *s == '\n' || *s == '\r' ? " " : s, 1);
 }

@@ -61,3 +61,12 @@ w.writeheader(); w.writerows(fixed)
 PY
 expect_status 0 check_reimport_fixed $BC import "$T/db" "$T/fixed.csv"
 same_text check_reimport_fixed_summary "$T/out" "$T/fixed.csv: 3 rows read, 3 stored, 0 quarantined"
+
+# Text a spreadsheet would run (= + - @ first) gets a leading ' in tsv as
+# in csv (OWASP "CSV Injection"); here an unlinked reference key.
+printf 'occurrenceID,scientificName,earliestAgeOrLowestStage,minimumPaleodepthInMeters,maximumPaleodepthInMeters,associatedReferences\nG1,Aus bus,Campanian,10,20,=HYPERLINK("x")\nG2,Aus bus,Campanian,10,20,-ref\n' >"$T/guard.csv"
+$BC import "$T/db" "$T/guard.csv" >/dev/null 2>&1
+expect_status 1 check_tsv_guard $BC check "$T/db" --format tsv
+contains check_tsv_guard_equals "$T/out" "$(printf "\t'=HYPERLINK(\"x\")\t")"
+contains check_tsv_guard_minus "$T/out" "$(printf "\t'-ref\t")"
+if grep -q "$(printf '\t[=+@]')" "$T/out"; then fail check_tsv_no_formula_cells "$(grep "$(printf '\t[=+@]')" "$T/out" | head -c 300)"; else ok check_tsv_no_formula_cells; fi
