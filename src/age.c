@@ -1305,14 +1305,10 @@ static int cache_put(bc_resolver *r, const bc_age *a)
 {
 	if (r->ncache >= AGE_CACHE_MAX)
 		return -1;
-	if (r->ncache == r->capcache) {
-		size_t cap = r->capcache ? 2 * r->capcache : 1024;
-		cached *p = bc__realloc(r->cache_v, cap * sizeof *p);
-		if (!p)
-			return -1;
-		r->cache_v = p;
-		r->capcache = cap;
-	}
+	cached *p = bc__grow(r->cache_v, r->ncache, &r->capcache, sizeof *p, 1024);
+	if (!p)
+		return -1;
+	r->cache_v = p;
 	cached c = {a->status, find_iv(r, a->from), find_iv(r, a->to), a->uncertain, a->older_ma, a->younger_ma, NULL};
 	if (!(c.note = bc__strdup(a->note)))
 		return -1;
@@ -1487,17 +1483,13 @@ static int alias_add(bc_resolver *r, const char *text, const char *note, span sp
 		r->alias_v[*old] = a;
 		return BC_OK;
 	}
-	if (r->nalias == r->capalias) {
-		size_t cap = r->capalias ? 2 * r->capalias : 256;
-		alias *p = bc__realloc(r->alias_v, cap * sizeof *p);
-		if (!p) {
-			free(a.text);
-			free(a.note);
-			return BC_ENOMEM;
-		}
-		r->alias_v = p;
-		r->capalias = cap;
+	alias *p = bc__grow(r->alias_v, r->nalias, &r->capalias, sizeof *p, 256);
+	if (!p) {
+		free(a.text);
+		free(a.note);
+		return BC_ENOMEM;
 	}
+	r->alias_v = p;
 	char stem[AGE_KEY_MAX];
 	if (strmap_set(&r->aliases, key, (int)r->nalias) != BC_OK) {
 		free(a.text);
@@ -1596,16 +1588,12 @@ static int alias_parse(bc_resolver *r, const char *data, size_t len, const char 
 			rc = bc_err_set(err, BC_EINVALID, "%s:%zu: younger: '%s' is older than '%s'", path, lineno, v[2], v[1]);
 			goto done;
 		}
-		if (nrows == caprows) {
-			size_t cap = caprows ? 2 * caprows : 128;
-			struct row *p = bc__realloc(rows, cap * sizeof *p);
-			if (!p) {
-				rc = bc_err_set(err, BC_ENOMEM, "out of memory");
-				goto done;
-			}
-			rows = p;
-			caprows = cap;
+		struct row *p = bc__grow(rows, nrows, &caprows, sizeof *p, 128);
+		if (!p) {
+			rc = bc_err_set(err, BC_ENOMEM, "out of memory");
+			goto done;
 		}
+		rows = p;
 		span s = {a.from, b.to, a.older > b.older ? a.older : b.older, a.younger < b.younger ? a.younger : b.younger};
 		rows[nrows].alias = (char *)v[0];
 		rows[nrows].note = (char *)v[3];

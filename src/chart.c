@@ -89,14 +89,10 @@ int bc_chart_add_interval(bc_chart *c, const bc_interval *iv, bc_err *err)
 			c->name, iv->name, iv->older_ma, iv->younger_ma);
 	if (iv->parent >= (int)c->n)
 		return bc_err_set(err, BC_EINVALID, "chart %s: interval %s: parent index %d out of range", c->name, iv->name, iv->parent);
-	if (c->n == c->cap) {
-		size_t cap = c->cap ? 2 * c->cap : 64;
-		bc_interval *p = bc__realloc(c->iv, cap * sizeof *p);
-		if (!p)
-			return bc_err_set(err, BC_ENOMEM, "out of memory");
-		c->iv = p;
-		c->cap = cap;
-	}
+	bc_interval *p = bc__grow(c->iv, c->n, &c->cap, sizeof *p, 64);
+	if (!p)
+		return bc_err_set(err, BC_ENOMEM, "out of memory");
+	c->iv = p;
 	bc_interval copy = *iv;
 	copy.name = bc__strdup(iv->name);
 	copy.iri = bc__strdup(iv->iri ? iv->iri : "");
@@ -115,14 +111,10 @@ int bc_chart_add_label(bc_chart *c, int interval, const char *text, const char *
 {
 	if (interval < 0 || (size_t)interval >= c->n)
 		return bc_err_set(err, BC_EINVALID, "chart %s: label '%s' for unknown interval %d", c->name, text, interval);
-	if (c->nlab == c->caplab) {
-		size_t cap = c->caplab ? 2 * c->caplab : 256;
-		bc_label *p = bc__realloc(c->lab, cap * sizeof *p);
-		if (!p)
-			return bc_err_set(err, BC_ENOMEM, "out of memory");
-		c->lab = p;
-		c->caplab = cap;
-	}
+	bc_label *p = bc__grow(c->lab, c->nlab, &c->caplab, sizeof *p, 256);
+	if (!p)
+		return bc_err_set(err, BC_ENOMEM, "out of memory");
+	c->lab = p;
 	bc_label l = {interval, bc__strdup(text), bc__strdup(lang ? lang : "")};
 	if (!l.text || !l.lang) {
 		free((char *)l.text);

@@ -204,14 +204,10 @@ static int write_quarantine(bc_db *db, const char *kind, FILE *out, long long *n
 			seen = strcmp(cols[i], k) == 0;
 		if (seen)
 			continue;
-		if (ncols == cap) {
-			size_t nc = cap ? cap * 2 : 32;
-			char **nv = bc__realloc(cols, nc * sizeof *nv);
-			if (!nv)
-				goto nomem;
-			cols = nv;
-			cap = nc;
-		}
+		char **nv = bc__grow(cols, ncols, &cap, sizeof *nv, 32);
+		if (!nv)
+			goto nomem;
+		cols = nv;
 		if (!(cols[ncols] = bc__strdup(k)))
 			goto nomem;
 		ncols++;

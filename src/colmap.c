@@ -223,16 +223,12 @@ int bc_colmap__parse(bc_colmap **out, const char *name, const char *text, size_t
 					rc = bc_err_set(err, BC_EINVALID, "%s:%ld: column: \"%s\" is already mapped on line %ld", name, line, a, m->r[i].line);
 					goto done;
 				}
-			if (m->n == m->cap) {
-				size_t nc = m->cap ? m->cap * 2 : 16;
-				colmap_rule *nr = bc__realloc(m->r, nc * sizeof *nr);
-				if (!nr) {
-					rc = bc_err_set(err, BC_ENOMEM, "out of memory");
-					goto done;
-				}
-				m->r = nr;
-				m->cap = nc;
+			colmap_rule *nr = bc__grow(m->r, m->n, &m->cap, sizeof *nr, 16);
+			if (!nr) {
+				rc = bc_err_set(err, BC_ENOMEM, "out of memory");
+				goto done;
 			}
+			m->r = nr;
 			colmap_rule *r = &m->r[m->n];
 			if (!(r->header = bc__strdup(a))) {
 				rc = bc_err_set(err, BC_ENOMEM, "out of memory");
