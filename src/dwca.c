@@ -756,14 +756,10 @@ static void row_free(dw_row *r)
 
 static int row_new_cell(dw_row *r)
 {
-	if (r->n == r->cap) {
-		size_t nc = r->cap ? r->cap * 2 : 32;
-		size_t *no = bc__realloc(r->off, nc * sizeof *no);
-		if (!no)
-			return BC_ENOMEM;
-		r->off = no;
-		r->cap = nc;
-	}
+	size_t *no = bc__grow(r->off, r->n, &r->cap, sizeof *no, 32);
+	if (!no)
+		return BC_ENOMEM;
+	r->off = no;
 	r->off[r->n++] = r->text.len;
 	return BC_OK;
 }

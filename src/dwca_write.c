@@ -223,14 +223,10 @@ typedef struct csv_table {
 
 static int table_cell(csv_table *t)
 {
-	if (t->n == t->cap) {
-		size_t nc = t->cap ? t->cap * 2 : 1024;
-		size_t *no = bc__realloc(t->off, nc * sizeof *no);
-		if (!no)
-			return BC_ENOMEM;
-		t->off = no;
-		t->cap = nc;
-	}
+	size_t *no = bc__grow(t->off, t->n, &t->cap, sizeof *no, 1024);
+	if (!no)
+		return BC_ENOMEM;
+	t->off = no;
 	t->off[t->n++] = t->text.len;
 	return BC_OK;
 }

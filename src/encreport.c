@@ -106,14 +106,10 @@ static enc_acc *find_acc(bc_encounter_report *r, const char *bin, int zone, cons
 	for (size_t i = 0; i < r->n; i++)
 		if (r->acc[i].zone_index == zone && strcmp(r->acc[i].bin, bin) == 0 && strcmp(r->acc[i].site, site) == 0)
 			return &r->acc[i];
-	if (r->n == r->cap) {
-		size_t cap = r->cap ? 2 * r->cap : 16;
-		enc_acc *a = bc__realloc(r->acc, cap * sizeof *a);
-		if (!a)
-			return NULL;
-		r->acc = a;
-		r->cap = cap;
-	}
+	enc_acc *grown = bc__grow(r->acc, r->n, &r->cap, sizeof *grown, 16);
+	if (!grown)
+		return NULL;
+	r->acc = grown;
 	enc_acc *a = &r->acc[r->n];
 	memset(a, 0, sizeof *a);
 	a->bin = bc__strdup(bin);

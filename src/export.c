@@ -59,14 +59,10 @@ static int names_add(names *n, const char *s)
 {
 	if (names_index(n, s) >= 0)
 		return BC_OK;
-	if (n->n == n->cap) {
-		size_t nc = n->cap ? n->cap * 2 : 16;
-		char **nv = bc__realloc(n->v, nc * sizeof *nv);
-		if (!nv)
-			return BC_ENOMEM;
-		n->v = nv;
-		n->cap = nc;
-	}
+	char **nv = bc__grow(n->v, n->n, &n->cap, sizeof *nv, 16);
+	if (!nv)
+		return BC_ENOMEM;
+	n->v = nv;
 	if (!(n->v[n->n] = bc__strdup(s)))
 		return BC_ENOMEM;
 	n->n++;

@@ -75,26 +75,14 @@ void bc_output__table_free(bc_table *t)
 	free(t);
 }
 
-/* Grows an array of `size`-byte elements to hold one more. */
-static int grow(void **p, size_t *cap, size_t n, size_t size)
-{
-	if (n < *cap)
-		return 0;
-	size_t nc = *cap ? 2 * *cap : 16;
-	void *q = bc__realloc(*p, nc * size);
-	if (!q)
-		return -1;
-	*p = q;
-	*cap = nc;
-	return 0;
-}
-
 int bc_output__add_column(bc_table *t, const char *name, bc_col_type type, int digits, bc_err *err)
 {
 	if (t->nrows)
 		return bc_err_set(err, BC_EUSAGE, "table: column %s added after the first row", name);
-	if (grow((void **)&t->cols, &t->capcols, t->ncols, sizeof *t->cols))
+	col *cols = bc__grow(t->cols, t->ncols, &t->capcols, sizeof *cols, 16);
+	if (!cols)
 		return oom(err);
+	t->cols = cols;
 	col c = {bc__strdup(name), type, digits};
 	if (!c.name)
 		return oom(err);
@@ -174,11 +162,13 @@ int bc_output__set_caption(bc_table *t, const char *caption, bc_err *err)
 
 static int add_meta(bc_table *t, meta m, bc_err *err)
 {
-	if (grow((void **)&t->meta, &t->capmeta, t->nmeta, sizeof *t->meta)) {
+	meta *q = bc__grow(t->meta, t->nmeta, &t->capmeta, sizeof *q, 16);
+	if (!q) {
 		free(m.key);
 		free(m.text);
 		return oom(err);
 	}
+	t->meta = q;
 	t->meta[t->nmeta++] = m;
 	return BC_OK;
 }
