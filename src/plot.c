@@ -123,14 +123,10 @@ static void plot_lines_free(plot_lines *l)
 
 static int plot_lines_push(plot_lines *l, const char *s, size_t len)
 {
-	if (l->n == l->cap) {
-		size_t cap = l->cap ? 2 * l->cap : 8;
-		char **p = bc__realloc(l->s, cap * sizeof *p);
-		if (!p)
-			return BC_ENOMEM;
-		l->s = p;
-		l->cap = cap;
-	}
+	char **p = bc__grow(l->s, l->n, &l->cap, sizeof *p, 8);
+	if (!p)
+		return BC_ENOMEM;
+	l->s = p;
 	if (!(l->s[l->n] = bc__strndup(s, len)))
 		return BC_ENOMEM;
 	l->n++;

@@ -137,14 +137,10 @@ static int load_row(void *ctx, const bc_shift__row *row, bc_err *err)
 		r->sum.n_no_depth++;
 		return BC_OK;
 	}
-	if (r->nocc == r->capocc) {
-		size_t nc = r->capocc ? 2 * r->capocc : 1024;
-		rocc *p = bc__realloc(r->occ, nc * sizeof *p);
-		if (!p)
-			return oom(err);
-		r->occ = p;
-		r->capocc = nc;
-	}
+	rocc *p = bc__grow(r->occ, r->nocc, &r->capocc, sizeof *p, 1024);
+	if (!p)
+		return oom(err);
+	r->occ = p;
 	rocc *x = &r->occ[r->nocc];
 	memset(x, 0, sizeof *x);
 	if (!(x->name = bc__strndup(name, nl)) || !(x->ref = bc__strdup(row->ref))) {
@@ -248,16 +244,12 @@ static int keep_str(bc_ranges *r, char *s)
 {
 	if (!s)
 		return -1;
-	if (r->nstrs == r->capstrs) {
-		size_t nc = r->capstrs ? 2 * r->capstrs : 64;
-		char **p = bc__realloc(r->strs, nc * sizeof *p);
-		if (!p) {
-			free(s);
-			return -1;
-		}
-		r->strs = p;
-		r->capstrs = nc;
+	char **p = bc__grow(r->strs, r->nstrs, &r->capstrs, sizeof *p, 64);
+	if (!p) {
+		free(s);
+		return -1;
 	}
+	r->strs = p;
 	r->strs[r->nstrs++] = s;
 	return 0;
 }

@@ -778,16 +778,12 @@ static int run_refw(bc_shift *s, bc_err *err)
 			double sh = cnt[b * stride + BC_SHIFT__C_SHALLOW], dp = cnt[b * stride + BC_SHIFT__C_DEEP];
 			if (!(sh + dp > 0))
 				continue;
-			if (nent == cap) {
-				size_t nc = cap ? 2 * cap : 1024;
-				refentry *p = bc__realloc(ent, nc * sizeof *p);
-				if (!p) {
-					rc = oom(err);
-					goto done;
-				}
-				ent = p;
-				cap = nc;
+			refentry *p = bc__grow(ent, nent, &cap, sizeof *p, 1024);
+			if (!p) {
+				rc = oom(err);
+				goto done;
 			}
+			ent = p;
 			ent[nent++] = (refentry){(uint32_t)u, (uint32_t)b, dp / (sh + dp)};
 			any = 1;
 		}

@@ -184,14 +184,10 @@ static void g_add(graph *g, const char *s, const char *p, const char *o, int lit
 	int si = g_subject(g, s, 1);
 	if (si < 0)
 		return;
-	if (g->n == g->cap) {
-		size_t cap = g->cap ? g->cap * 2 : 4096;
-		triple *t = bc__realloc(g->t, cap * sizeof *t);
-		if (!t)
-			return (void)g_oom(g);
-		g->t = t;
-		g->cap = cap;
-	}
+	triple *t = bc__grow(g->t, g->n, &g->cap, sizeof *t, 4096);
+	if (!t)
+		return (void)g_oom(g);
+	g->t = t;
 	g->t[g->n] = (triple){g->subj[si].key, p, o, lang ? lang : "", lit, line, -1};
 	if (g->subj[si].tail >= 0)
 		g->t[g->subj[si].tail].next = (int)g->n;

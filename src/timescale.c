@@ -542,15 +542,12 @@ int bc_timescale_list(bc_timescale_info **out, size_t *n, bc_db *db, bc_err *err
 		"t.source, t.licence, t.loaded_from, t.loaded_at FROM timescales t ORDER BY t.is_default DESC, t.name", err);
 	int s;
 	while (rc == BC_OK && (s = sqlite3_step(st)) == SQLITE_ROW) {
-		if (*n == cap) {
-			cap = cap ? cap * 2 : 8;
-			bc_timescale_info *p = bc__realloc(v, cap * sizeof *p);
-			if (!p) {
-				rc = bc_err_set(err, BC_ENOMEM, "out of memory");
-				break;
-			}
-			v = p;
+		bc_timescale_info *p = bc__grow(v, *n, &cap, sizeof *p, 8);
+		if (!p) {
+			rc = bc_err_set(err, BC_ENOMEM, "out of memory");
+			break;
 		}
+		v = p;
 		bc_timescale_info *t = &v[(*n)++];
 		copy_col(t->name, sizeof t->name, st, 0);
 		t->is_default = sqlite3_column_int(st, 1);
@@ -647,15 +644,12 @@ int bc_timescale_get(bc_chart **out, bc_db *db, const char *name, bc_err *err)
 			rc = bc_err_set(err, idx, "%s: %s", bc_db_path(db), e.msg);
 			break;
 		}
-		if (nids == cap) {
-			cap = cap ? 2 * cap : 256;
-			sqlite3_int64 *p = bc__realloc(ids, cap * sizeof *p);
-			if (!p) {
-				rc = bc_err_set(err, BC_ENOMEM, "out of memory");
-				break;
-			}
-			ids = p;
+		sqlite3_int64 *p = bc__grow(ids, nids, &cap, sizeof *p, 256);
+		if (!p) {
+			rc = bc_err_set(err, BC_ENOMEM, "out of memory");
+			break;
 		}
+		ids = p;
 		ids[nids++] = sqlite3_column_int64(iv, 0);
 	}
 	if (rc == BC_OK && s != SQLITE_DONE)
