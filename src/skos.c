@@ -164,14 +164,10 @@ static int g_subject(graph *g, const char *s, int create)
 	}
 	if (!create)
 		return -1;
-	if (g->nsubj == g->capsubj) {
-		size_t cap = g->capsubj ? g->capsubj * 2 : 512;
-		subject *p = bc__realloc(g->subj, cap * sizeof *p);
-		if (!p)
-			return g_oom(g), -1;
-		g->subj = p;
-		g->capsubj = cap;
-	}
+	subject *p = bc__grow(g->subj, g->nsubj, &g->capsubj, sizeof *p, 512);
+	if (!p)
+		return g_oom(g), -1;
+	g->subj = p;
 	g->subj[g->nsubj] = (subject){s, -1, -1};
 	g->slot[k] = (int)g->nsubj;
 	return (int)g->nsubj++;
