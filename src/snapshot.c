@@ -428,10 +428,12 @@ int bc_snapshot__load(bc_snapshot **out, bc_db *db, unsigned want, bc_err *err)
 	s->db = db;
 	size_t rows = 0;
 	int64_t max_pk = 0, min_pk = 0;
+	/* Inside a caller's transaction: read in it, store nothing. */
+	int outer = !sqlite3_get_autocommit(bc_db__sqlite(db));
 	/* 1. The stored copy, read in one transaction with the table's keys. */
-	int rc = SNAP_STORABLE ? bc_db__exec(db, "BEGIN", err) : BC_ENOTFOUND;
+	int rc = !SNAP_STORABLE ? BC_ENOTFOUND : outer ? BC_OK : bc_db__exec(db, "BEGIN", err);
 	if (rc == BC_OK) {
-		s->in_txn = 1;
+		s->in_txn = !outer;
 		rc = table_state(db, &max_pk, &min_pk, NULL, err);
 		if (rc == BC_OK)
 			rc = stored_open(s, db, max_pk, min_pk, want, err);
@@ -450,8 +452,8 @@ int bc_snapshot__load(bc_snapshot **out, bc_db *db, unsigned want, bc_err *err)
 	/* 2. Build it, holding the write lock so nothing changes between the
 	 * read and the write; when another connection is writing, read in a
 	 * plain transaction and store nothing. */
-	int writing = SNAP_STORABLE && bc_db__try_begin(db) == BC_OK;
-	rc = writing ? BC_OK : bc_db__exec(db, "BEGIN", err);
+	int writing = SNAP_STORABLE && !outer && bc_db__try_begin(db) == BC_OK;
+	rc = writing || outer ? BC_OK : bc_db__exec(db, "BEGIN", err);
 	if (rc == BC_OK)
 		rc = table_state(db, &max_pk, &min_pk, &rows, err);
 	if (rc == BC_OK)
@@ -459,7 +461,8 @@ int bc_snapshot__load(bc_snapshot **out, bc_db *db, unsigned want, bc_err *err)
 	s->n = rows;
 	if (rc == BC_OK && writing && table_store(s, db, max_pk) == BC_OK && bc_db__commit(db, NULL) == BC_OK)
 		s->stored = 1;
-	bc_db__rollback(db);
+	if (!outer)
+		bc_db__rollback(db);
 	if (rc) {
 		bc_snapshot__free(s);
 		return rc;
