@@ -1141,9 +1141,13 @@ static void indexes_free(saved_indexes *si)
  * thread touches the database. Memory is bounded by the queue: PIPE_SLOTS
  * batches of PIPE_ROWS rows, and a row buffer that grew beyond
  * ROW_KEEP_BYTES (a huge cell) is released before the row is reused.
+ * A waiting side is woken only when half the batches are ready for it
+ * again (free for the reader, full for the storer) or the other side
+ * stops: each wake-up costs both threads a system call or two, and a
+ * wake-up per batch made the two threads take turns.
  * BATHYCHRON_IMPORT_THREADS=1 in the environment keeps it on one thread.
  */
-#define PIPE_SLOTS 4
+#define PIPE_SLOTS 8
 #define PIPE_ROWS 64
 #define ROW_KEEP_BYTES 16384
 
@@ -1161,6 +1165,8 @@ struct row_queue {
 	pthread_mutex_t mu;
 	pthread_cond_t cv;
 	int stop; /* storing failed: the reader stops */
+	int nfull; /* batches filled and not yet stored */
+	int reader_waits, storer_waits;
 	queue_slot slot[PIPE_SLOTS];
 };
 
@@ -1187,8 +1193,11 @@ static void *queue_reader(void *arg)
 	for (size_t k = 0;; k = (k + 1) % PIPE_SLOTS) {
 		queue_slot *s = &pp->slot[k];
 		pthread_mutex_lock(&pp->mu);
-		while (s->full && !pp->stop)
+		while (s->full && !pp->stop) {
+			pp->reader_waits = 1;
 			pthread_cond_wait(&pp->cv, &pp->mu);
+		}
+		pp->reader_waits = 0;
 		int stop = pp->stop;
 		pthread_mutex_unlock(&pp->mu);
 		if (stop)
@@ -1211,7 +1220,11 @@ static void *queue_reader(void *arg)
 		s->rc = rc;
 		pthread_mutex_lock(&pp->mu);
 		s->full = 1;
-		pthread_cond_broadcast(&pp->cv);
+		pp->nfull++;
+		/* a waiting storer has stored every batch: it is woken when
+		 * half are full again, or at the last */
+		if (pp->storer_waits && (s->last || pp->nfull >= PIPE_SLOTS / 2))
+			pthread_cond_broadcast(&pp->cv);
 		pthread_mutex_unlock(&pp->mu);
 		if (s->last)
 			return NULL;
@@ -1258,8 +1271,11 @@ static int queue_store(importer *im, bc_err *err)
 	for (size_t k = 0;; k = (k + 1) % PIPE_SLOTS) {
 		queue_slot *s = &pp->slot[k];
 		pthread_mutex_lock(&pp->mu);
-		while (!s->full)
+		while (!s->full) {
+			pp->storer_waits = 1;
 			pthread_cond_wait(&pp->cv, &pp->mu);
+		}
+		pp->storer_waits = 0;
 		pthread_mutex_unlock(&pp->mu);
 		for (size_t i = 0; i < s->n && rc == BC_OK; i++)
 			rc = store_or_quarantine(im, &s->rows[i], err);
@@ -1271,9 +1287,14 @@ static int queue_store(importer *im, bc_err *err)
 		}
 		pthread_mutex_lock(&pp->mu);
 		s->full = 0;
+		pp->nfull--;
 		if (rc)
 			pp->stop = 1;
-		pthread_cond_broadcast(&pp->cv);
+		/* the slot the reader waits for is the one freed first, so it
+		 * is free by the time half are: no wake-up is lost. When no slot
+		 * is full, nfull is 0 and the reader is woken. */
+		if (pp->reader_waits && (pp->stop || pp->nfull <= PIPE_SLOTS / 2))
+			pthread_cond_broadcast(&pp->cv);
 		pthread_mutex_unlock(&pp->mu);
 		if (rc || last)
 			break;
