@@ -7,6 +7,7 @@
 
 #include <csv.h>
 #include <errno.h>
+#include <nettle/sha2.h>
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
@@ -40,6 +41,8 @@ struct bc_csv {
 	int parser_ready;
 	char delim;
 	int libcsv_only;
+	int hashing;             /* every byte read also goes into sha */
+	struct sha256_ctx sha;
 	int eof, failed;
 	/* the record being built, then a small queue of finished ones */
 	csv_rec build;
@@ -236,6 +239,30 @@ void bc_csv__libcsv_only(bc_csv *c, int on)
 	c->libcsv_only = on;
 }
 
+void bc_csv__hash_input(bc_csv *c)
+{
+	sha256_init(&c->sha);
+	c->hashing = 1;
+	if (!c->f)
+		sha256_update(&c->sha, c->mem_len, (const uint8_t *)c->mem);
+}
+
+int bc_csv__input_sha256(bc_csv *c, char out[65])
+{
+	static const char hex[] = "0123456789abcdef";
+	if (!c->hashing || !c->eof || c->failed)
+		return BC_ERROR;
+	uint8_t d[SHA256_DIGEST_SIZE];
+	sha256_digest(&c->sha, sizeof d, d);
+	c->hashing = 0;
+	for (size_t i = 0; i < sizeof d; i++) {
+		out[2 * i] = hex[d[i] >> 4];
+		out[2 * i + 1] = hex[d[i] & 15];
+	}
+	out[64] = '\0';
+	return BC_OK;
+}
+
 void bc_csv__free(bc_csv *c)
 {
 	if (!c)
@@ -268,6 +295,8 @@ static long csv_refill(bc_csv *c)
 	size_t n = fread(c->rbuf, 1, CSV_READ_BYTES, c->f);
 	if (n == 0 && ferror(c->f))
 		return -1;
+	if (c->hashing)
+		sha256_update(&c->sha, n, (const uint8_t *)c->rbuf);
 	c->rb = c->rbuf;
 	c->rlen = n;
 	c->rpos = 0;

@@ -246,3 +246,42 @@ TEST(csv_plain_lines_across_read_blocks)
 		bc__buf_free(&text);
 	}
 }
+
+/* The SHA-256 taken while reading equals the one of a pass over the file
+ * (bc__sha256_file), and is refused before the end of the input. */
+TEST(csv_hash_while_reading)
+{
+	bc_buf text = {0};
+	bc__buf_puts(&text, "a,b\n");
+	for (int i = 0; text.len < (200u << 10); i++)
+		bc__buf_printf(&text, "%d,\"cell %d\"\r\n", i, i * 7);
+	char path[512], want[65], got[65];
+	snprintf(path, sizeof path, "%s/hash.csv", test_tmpdir());
+	FILE *f = fopen(path, "wb");
+	CHECK(f);
+	CHECK_INT(fwrite(text.data, 1, text.len, f), text.len);
+	fclose(f);
+	bc_err err = {0};
+	CHECK_OK(bc__sha256_file(path, want, &err), &err);
+	for (int from_file = 0; from_file < 2; from_file++) {
+		bc_csv *c = NULL;
+		bc_csv_options o = {0};
+		if (from_file)
+			CHECK_OK(bc_csv__open(&c, path, "hash.csv", &o, &err), &err);
+		else
+			CHECK_OK(bc_csv__open_mem(&c, "hash.csv", text.data, text.len, &o, &err), &err);
+		bc_csv__hash_input(c);
+		CHECK_INT(bc_csv__next(c, &err), 1);
+		CHECK_INT(bc_csv__input_sha256(c, got), BC_ERROR); /* not at the end yet */
+		long n = 1;
+		int rc;
+		while ((rc = bc_csv__next(c, &err)) == 1)
+			n++;
+		CHECK_INT(rc, 0);
+		CHECK(n > 1000);
+		CHECK_INT(bc_csv__input_sha256(c, got), BC_OK);
+		CHECK_STR(got, want);
+		bc_csv__free(c);
+	}
+	bc__buf_free(&text);
+}
