@@ -7,6 +7,7 @@
 
 #include <csv.h>
 #include <errno.h>
+#include <nettle/sha2.h>
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
@@ -26,15 +27,22 @@ struct bc_csv {
 	char *name;
 	FILE *f;                 /* NULL when reading from memory */
 	const char *mem;
-	size_t mem_len, mem_pos;
-	char *line;              /* current physical line (getline buffer) */
-	size_t line_cap;
+	size_t mem_len;
+	const char *rb;          /* input not yet split into lines: the read */
+	size_t rlen, rpos;       /* buffer, or the whole text when reading from memory */
+	char *rbuf;
+	const char *line;        /* current physical line: in rb, or in own */
+	char *own;               /* a line that crossed the end of the read buffer */
+	size_t own_cap;
 	long lineno;             /* physical lines fed so far */
 	long next_start;         /* line where the next record begins */
 	uint64_t bytes, size;
 	struct csv_parser p;
 	int parser_ready;
 	char delim;
+	int libcsv_only;
+	int hashing;             /* every byte read also goes into sha */
+	struct sha256_ctx sha;
 	int eof, failed;
 	/* the record being built, then a small queue of finished ones */
 	csv_rec build;
@@ -59,16 +67,21 @@ static void rec_free(csv_rec *r)
 	memset(r, 0, sizeof *r);
 }
 
+static int rec_grow(csv_rec *r)
+{
+	size_t nc = r->cap ? r->cap * 2 : 32;
+	size_t *no = bc__realloc(r->off, nc * sizeof *no);
+	if (!no)
+		return BC_ENOMEM;
+	r->off = no;
+	r->cap = nc;
+	return BC_OK;
+}
+
 static int rec_add(csv_rec *r, const char *s, size_t n)
 {
-	if (r->n == r->cap) {
-		size_t nc = r->cap ? r->cap * 2 : 32;
-		size_t *no = bc__realloc(r->off, nc * sizeof *no);
-		if (!no)
-			return BC_ENOMEM;
-		r->off = no;
-		r->cap = nc;
-	}
+	if (r->n == r->cap && rec_grow(r))
+		return BC_ENOMEM;
 	r->off[r->n++] = r->text.len;
 	/* bc__buf_append always leaves a NUL after the data (it reserves room
 	 * for it): counting that NUL in makes it the field separator */
@@ -126,6 +139,50 @@ static void cb_record(int ch, void *data)
 		c->next_start = c->lineno + 1;
 }
 
+/*
+ * The common case without libcsv: a whole line with no quote character,
+ * read while no record is open, ending in a line end. It is split at the
+ * delimiter into the record being built, exactly as libcsv would (spaces
+ * are data, a trailing delimiter gives an empty last cell, an empty line
+ * gives no record) and then ended like libcsv's end of a row. Returns
+ * BC_ERROR, having done nothing, when libcsv must take the line.
+ */
+static int csv_plain_line(bc_csv *c, const unsigned char *s, size_t len)
+{
+	if (c->libcsv_only || c->building || c->p.pstate != 0 || len == 0 || (s[len - 1] != '\n' && s[len - 1] != '\r') ||
+		memchr(s, '"', len))
+		return BC_ERROR;
+	size_t body = len - 1;
+	if (body && s[body] == '\n' && s[body - 1] == '\r')
+		body--;
+	if (body) {
+		csv_rec *r = &c->build;
+		c->building = 1;
+		r->line = c->next_start;
+		if (bc__buf_append(&r->text, (const char *)s, body)) {
+			c->oom = 1;
+			return BC_OK;
+		}
+		char *t = r->text.data;
+		size_t at = 0;
+		for (;;) {
+			char *d = memchr(t + at, c->delim, body - at);
+			if (r->n == r->cap && rec_grow(r)) {
+				c->oom = 1;
+				return BC_OK;
+			}
+			r->off[r->n++] = at;
+			if (!d)
+				break;
+			*d = '\0';
+			at = (size_t)(d - t) + 1;
+		}
+		r->text.len = body + 1; /* with the NUL bc__buf_append wrote */
+	}
+	cb_record('\n', c);
+	return BC_OK;
+}
+
 static int csv_setup(bc_csv *c, const char *name, const bc_csv_options *opts, bc_err *err)
 {
 	if (!(c->name = bc__strdup(name)))
@@ -170,8 +227,39 @@ int bc_csv__open_mem(bc_csv **out, const char *name, const char *data, size_t le
 	}
 	c->mem = data;
 	c->mem_len = len;
+	c->rb = data;
+	c->rlen = len;
 	c->size = len;
 	*out = c;
+	return BC_OK;
+}
+
+void bc_csv__libcsv_only(bc_csv *c, int on)
+{
+	c->libcsv_only = on;
+}
+
+void bc_csv__hash_input(bc_csv *c)
+{
+	sha256_init(&c->sha);
+	c->hashing = 1;
+	if (!c->f)
+		sha256_update(&c->sha, c->mem_len, (const uint8_t *)c->mem);
+}
+
+int bc_csv__input_sha256(bc_csv *c, char out[65])
+{
+	static const char hex[] = "0123456789abcdef";
+	if (!c->hashing || !c->eof || c->failed)
+		return BC_ERROR;
+	uint8_t d[SHA256_DIGEST_SIZE];
+	sha256_digest(&c->sha, sizeof d, d);
+	c->hashing = 0;
+	for (size_t i = 0; i < sizeof d; i++) {
+		out[2 * i] = hex[d[i] >> 4];
+		out[2 * i + 1] = hex[d[i] & 15];
+	}
+	out[64] = '\0';
 	return BC_OK;
 }
 
@@ -184,7 +272,8 @@ void bc_csv__free(bc_csv *c)
 	if (c->parser_ready)
 		csv_free(&c->p);
 	free(c->name);
-	free(c->line);
+	free(c->own);
+	free(c->rbuf);
 	rec_free(&c->build);
 	rec_free(&c->cur);
 	for (size_t i = 0; i < c->qcap; i++)
@@ -193,50 +282,102 @@ void bc_csv__free(bc_csv *c)
 	free(c);
 }
 
+#define CSV_READ_BYTES (64u << 10)
+
+/* Reads more of a file into the read buffer; returns the bytes read, 0
+ * at the end (and always for text in memory), -1 on a read error. */
+static long csv_refill(bc_csv *c)
+{
+	if (!c->f)
+		return 0;
+	if (!c->rbuf && !(c->rbuf = bc__malloc(CSV_READ_BYTES)))
+		return -2;
+	size_t n = fread(c->rbuf, 1, CSV_READ_BYTES, c->f);
+	if (n == 0 && ferror(c->f))
+		return -1;
+	if (c->hashing)
+		sha256_update(&c->sha, n, (const uint8_t *)c->rbuf);
+	c->rb = c->rbuf;
+	c->rlen = n;
+	c->rpos = 0;
+	return (long)n;
+}
+
+static int own_append(bc_csv *c, size_t have, const char *s, size_t n)
+{
+	if (have + n + 1 > c->own_cap) {
+		size_t nc = c->own_cap ? c->own_cap : 256;
+		while (have + n + 1 > nc)
+			nc *= 2;
+		char *nb = bc__realloc(c->own, nc);
+		if (!nb)
+			return BC_ENOMEM;
+		c->own = nb;
+		c->own_cap = nc;
+	}
+	memcpy(c->own + have, s, n);
+	return BC_OK;
+}
+
 /* Reads one physical line (with its line end if any) into c->line; returns
- * its length, 0 at the end, -1 on a read error. A line ends at LF, CRLF, or
- * a bare CR (files saved with classic Mac line ends), so every record's
- * line number is right. */
+ * its length, 0 at the end, -1 on a read error, -2 out of memory. A line
+ * ends at LF, CRLF, or a bare CR (files saved with classic Mac line
+ * ends), so every record's line number is right. A line inside the read
+ * buffer is used where it lies; one crossing the buffer's end is copied. */
 static long csv_read_line(bc_csv *c)
 {
 	size_t n = 0;
+	int copied = 0, cr_last = 0; /* the line so far is in own; it ends in a CR */
 	for (;;) {
-		int ch;
-		if (c->f) {
-			ch = getc_unlocked(c->f);
-			if (ch == EOF && ferror(c->f))
-				return -1;
-		} else {
-			ch = c->mem_pos < c->mem_len ? (unsigned char)c->mem[c->mem_pos++] : EOF;
-		}
-		if (ch == EOF)
-			break;
-		if (n + 3 > c->line_cap) { /* this byte, perhaps an LF after a CR, and the NUL */
-			size_t nc = c->line_cap ? c->line_cap * 2 : 256;
-			char *nb = bc__realloc(c->line, nc);
-			if (!nb)
-				return -2;
-			c->line = nb;
-			c->line_cap = nc;
-		}
-		c->line[n++] = (char)ch;
-		if (ch == '\n')
-			break;
-		if (ch == '\r') {
-			int next = c->f ? getc_unlocked(c->f) : (c->mem_pos < c->mem_len ? (unsigned char)c->mem[c->mem_pos] : EOF);
-			if (next != '\n') {
-				if (c->f && next != EOF)
-					ungetc(next, c->f);
+		if (c->rpos >= c->rlen) {
+			long got = csv_refill(c);
+			if (got < 0)
+				return got;
+			if (got == 0)
 				break;
+		}
+		const char *b = c->rb + c->rpos;
+		size_t avail = c->rlen - c->rpos, seg;
+		int done = 0;
+		if (cr_last) {
+			/* a CR ended the previous buffer: an LF here belongs to it */
+			seg = *b == '\n' ? 1 : 0;
+			done = 1;
+		} else {
+			const char *nl = memchr(b, '\n', avail);
+			seg = nl ? (size_t)(nl - b) + 1 : avail;
+			const char *cr = memchr(b, '\r', seg);
+			if (cr) {
+				seg = (size_t)(cr - b) + 1;
+				if (seg < avail) {
+					if (b[seg] == '\n')
+						seg++;
+					done = 1;
+				} else {
+					cr_last = 1;
+				}
+			} else if (nl) {
+				done = 1;
 			}
-			if (!c->f)
-				c->mem_pos++;
-			c->line[n++] = '\n';
+		}
+		if (done && !copied) {
+			c->line = b;
+			n = seg;
+			c->rpos += seg;
 			break;
 		}
+		if (own_append(c, n, b, seg))
+			return -2;
+		copied = 1;
+		n += seg;
+		c->rpos += seg;
+		if (done)
+			break;
 	}
-	if (n)
-		c->line[n] = '\0';
+	if (copied) {
+		c->own[n] = '\0';
+		c->line = c->own;
+	}
 	return (long)n;
 }
 
@@ -244,6 +385,15 @@ int bc_csv__utf8_valid(const unsigned char *s, size_t n, size_t *bad_at)
 {
 	size_t i = 0;
 	while (i < n) {
+		/* eight ASCII bytes at a time */
+		if (i + 8 <= n) {
+			uint64_t w;
+			memcpy(&w, s + i, sizeof w);
+			if (!(w & 0x8080808080808080ULL)) {
+				i += 8;
+				continue;
+			}
+		}
 		unsigned char b = s[i];
 		if (b < 0x80) {
 			i++;
@@ -325,7 +475,7 @@ static int csv_fill(bc_csv *c, bc_err *err)
 			}
 			break;
 		}
-		unsigned char *s = (unsigned char *)c->line;
+		const unsigned char *s = (const unsigned char *)c->line;
 		size_t len = (size_t)n;
 		c->lineno++;
 		c->bytes += len;
@@ -359,7 +509,9 @@ static int csv_fill(bc_csv *c, bc_err *err)
 			 * quadratic time. 64 KiB steps keep a 16 MB cell cheap. */
 			csv_set_blk_size(&c->p, 64 * 1024);
 		}
-		if (csv_parse(&c->p, s, len, cb_field, cb_record, c) != len)
+		if (csv_plain_line(c, s, len) == BC_OK)
+			;
+		else if (csv_parse(&c->p, s, len, cb_field, cb_record, c) != len)
 			return bc_err_set(err, c->oom || csv_error(&c->p) == CSV_ENOMEM ? BC_ENOMEM : BC_EINVALID, "%s:%ld: %s",
 				c->name, c->lineno, csv_strerror(csv_error(&c->p)));
 		if (c->oom)

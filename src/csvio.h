@@ -22,6 +22,16 @@ typedef struct bc_csv_options {
 int bc_csv__open(bc_csv **out, const char *path, const char *name, const bc_csv_options *opts, bc_err *err);
 /** Reads from memory (`data` borrowed; must outlive the reader). */
 int bc_csv__open_mem(bc_csv **out, const char *name, const char *data, size_t len, const bc_csv_options *opts, bc_err *err);
+/** With on set, every line goes through libcsv, none through the reader's
+ * own split of a line without quotes; the records are the same (the tests
+ * and the fuzz target compare the two). Call before the first read. */
+void bc_csv__libcsv_only(bc_csv *c, int on);
+/** Hashes every byte of the input as it is read (call before the first
+ * read); after the end of the input, bc_csv__input_sha256 gives the
+ * SHA-256 in hex, as bc__sha256_file would. BC_ERROR before the end, after
+ * a reading error, or without bc_csv__hash_input. */
+void bc_csv__hash_input(bc_csv *c);
+int bc_csv__input_sha256(bc_csv *c, char out[65]);
 
 /**
  * Advances to the next record. Returns 1 when a record is ready, 0 at the

@@ -4,7 +4,10 @@
  * semicolon); the rest is the file. Every record read is written back with
  * the writer's quoting (bc_csv__quote and, with the formula guard,
  * bc_csv__text_cell) and read again: the cells must come back unchanged,
- * so nothing is lost between export and import.
+ * so nothing is lost between export and import. The file is also read
+ * with every line through libcsv (bc_csv__libcsv_only): the reader's own
+ * split of lines without quotes must give the same records on the same
+ * lines, or the same refusal.
  */
 #include "fuzz.h"
 #include "csvio.h"
@@ -16,9 +19,11 @@ static void one_line(const bc_err *err)
 }
 
 /* Reads every record of `data`; with `out`, also writes them back as
- * CSV quoted for the detected delimiter. Returns the number of records
- * read, or -1 when the reader refused the input. */
-static long read_all(const char *data, size_t len, char delim, bc_buf *out, bc_buf *cells, char *used)
+ * CSV quoted for the detected delimiter; with `lines`, notes each
+ * record's line and the refusal, if any. Every line goes through libcsv
+ * with `libcsv_only`. Returns the number of records read, or -1 when the
+ * reader refused the input. */
+static long read_all(const char *data, size_t len, char delim, bc_buf *out, bc_buf *cells, char *used, bc_buf *lines, int libcsv_only)
 {
 	bc_csv *c = NULL;
 	bc_err err = {0};
@@ -27,6 +32,7 @@ static long read_all(const char *data, size_t len, char delim, bc_buf *out, bc_b
 		one_line(&err);
 		return -1;
 	}
+	bc_csv__libcsv_only(c, libcsv_only);
 	long n = 0, last_line = 0;
 	int rc;
 	while ((rc = bc_csv__next(c, &err)) == 1) {
@@ -34,6 +40,8 @@ static long read_all(const char *data, size_t len, char delim, bc_buf *out, bc_b
 		if (line < 1 || line <= last_line)
 			abort(); /* records start on strictly increasing lines */
 		last_line = line;
+		if (lines)
+			bc__buf_printf(lines, "%ld ", line);
 		size_t nf = bc_csv__nfields(c);
 		if (nf == 0)
 			abort();
@@ -66,6 +74,8 @@ static long read_all(const char *data, size_t len, char delim, bc_buf *out, bc_b
 		*used = bc_csv__delim(c);
 	if (rc < 0) {
 		one_line(&err);
+		if (lines)
+			bc__buf_printf(lines, "refused: %s", err.msg);
 		n = -1;
 	}
 	bc_csv__free(c);
@@ -80,12 +90,24 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
 	char delim = delims[data[0] % 4];
 	const char *text = (const char *)data + 1;
 	size_t len = size - 1;
-	bc_buf out = {0}, cells = {0}, again = {0};
+	bc_buf out = {0}, cells = {0}, again = {0}, lines = {0};
 	char used = 0;
-	long n = read_all(text, len, delim, &out, &cells, &used);
+	long n = read_all(text, len, delim, &out, &cells, &used, &lines, 0);
+	{
+		/* Every line through libcsv: the same records on the same lines. */
+		bc_buf lib = {0}, lib_lines = {0};
+		long k = read_all(text, len, delim, NULL, &lib, NULL, &lib_lines, 1);
+		if (k != n || lib.len != cells.len || (cells.len && memcmp(lib.data, cells.data, cells.len) != 0) ||
+			lib_lines.len != lines.len || (lines.len && memcmp(lib_lines.data, lines.data, lines.len) != 0)) {
+			fprintf(stderr, "the plain-line split and libcsv differ: %ld records, then %ld\n", n, k);
+			abort();
+		}
+		bc__buf_free(&lib);
+		bc__buf_free(&lib_lines);
+	}
 	if (n > 0 && used) {
 		/* Written back and read again: the same cells. */
-		long m = read_all(out.data ? out.data : "", out.len, used, NULL, &again, NULL);
+		long m = read_all(out.data ? out.data : "", out.len, used, NULL, &again, NULL, NULL, 0);
 		if (m != n || again.len != cells.len || (cells.len && memcmp(again.data, cells.data, cells.len) != 0)) {
 			fprintf(stderr, "round trip changed the cells: %ld records, then %ld\n", n, m);
 			abort();
@@ -110,5 +132,6 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
 	bc__buf_free(&out);
 	bc__buf_free(&cells);
 	bc__buf_free(&again);
+	bc__buf_free(&lines);
 	return 0;
 }
