@@ -1,9 +1,10 @@
 /*
  * shift_select.c - the selection that shift and ranges share (doc/shift.md,
  * "Selection" and "Speed"): group, taxon, preservation and region, in
- * occurrence_pk order, with the data hash of what passed. Without a
- * taxonomic rank it reads the column snapshot (snapshot.h) when there is
- * one, else one SELECT of the table; both select the same rows.
+ * occurrence_pk order, with the data hash of what passed, and the name at a
+ * taxonomic rank when asked. It reads the column snapshot (snapshot.h)
+ * when there is one, else one SELECT of the table; both select the same
+ * rows with the same names.
  */
 #include "shift.h"
 
@@ -228,7 +229,62 @@ static void fid_coords_find(const fid_coords *fc, int64_t fid, double *lon, doub
 	*lat = hit ? fc->lat[lo] : NAN;
 }
 
-static int select_snapshot(bc_snapshot *sn, bc_db *db, const bc_shift_options *o, bc_shift__row_fn fn,
+/* The name at a rank from the snapshot, as SQL_SELECT's CASE gives it:
+ * family, order or the scientific name as stored; for a genus the genus
+ * when it has more than spaces, else the first word of the scientific
+ * name (spaces trimmed) when it has two, else the name as stored. Each
+ * distinct string is looked at once. */
+enum { RANK_GENUS, RANK_SPECIES, RANK_FAMILY, RANK_ORDER };
+
+typedef struct rank_namer {
+	int kind;
+	const char *const *str;
+	size_t n;
+	uint8_t *has_text;   /* per string: 0 not yet, 1 more than spaces, 2 only spaces */
+	char **first_word;   /* per string: the genus taken from a scientific name */
+} rank_namer;
+
+static int rank_kind(const char *rank)
+{
+	return strcmp(rank, "family") == 0 ? RANK_FAMILY : strcmp(rank, "order") == 0 ? RANK_ORDER
+		: strcmp(rank, "species") == 0 ? RANK_SPECIES : RANK_GENUS;
+}
+
+static const char *rank_name(rank_namer *rn, const uint32_t *const *t, size_t i)
+{
+	if (rn->kind == RANK_SPECIES)
+		return rn->str[t[BC_SNAP_NAME][i]];
+	if (rn->kind == RANK_FAMILY)
+		return rn->str[t[BC_SNAP_FAMILY][i]];
+	if (rn->kind == RANK_ORDER)
+		return rn->str[t[BC_SNAP_ORDER][i]];
+	uint32_t g = t[BC_SNAP_GENUS][i], sci = t[BC_SNAP_NAME][i];
+	if (!rn->has_text[g])
+		rn->has_text[g] = (uint8_t)(rn->str[g][strspn(rn->str[g], " ")] ? 1 : 2);
+	if (rn->has_text[g] == 1)
+		return rn->str[g];
+	if (!rn->first_word[sci]) {
+		const char *a = rn->str[sci] + strspn(rn->str[sci], " ");
+		size_t len = strlen(a);
+		while (len && a[len - 1] == ' ')
+			len--;
+		const char *sp = memchr(a, ' ', len);
+		rn->first_word[sci] = sp ? bc__strndup(a, (size_t)(sp - a)) : bc__strdup(rn->str[sci]);
+		if (!rn->first_word[sci])
+			return NULL;
+	}
+	return rn->first_word[sci];
+}
+
+static void rank_namer_free(rank_namer *rn)
+{
+	for (size_t i = 0; rn->first_word && i < rn->n; i++)
+		free(rn->first_word[i]);
+	free(rn->first_word);
+	free(rn->has_text);
+}
+
+static int select_snapshot(bc_snapshot *sn, bc_db *db, const bc_shift_options *o, const char *rank, bc_shift__row_fn fn,
 			   void *ctx, bc_shift__selected *out, row_hash *rh, bc_err *err)
 {
 	int artic = bc_shift__art_class(o->preservation);
@@ -236,7 +292,11 @@ static int select_snapshot(bc_snapshot *sn, bc_db *db, const bc_shift_options *o
 	size_t n_str;
 	const char *const *str = bc_snapshot__strings(sn, &n_str);
 	fid_coords fc = {0};
+	rank_namer rn = {rank ? rank_kind(rank) : 0, str, n_str, NULL, NULL};
 	int rc = f ? BC_OK : oom(err), more = 0;
+	if (rc == BC_OK && rank && (!(rn.has_text = bc__calloc(n_str ? n_str : 1, 1)) ||
+				    !(rn.first_word = bc__calloc(n_str ? n_str : 1, sizeof *rn.first_word))))
+		rc = oom(err);
 	if (rc == BC_OK && o->has_region)
 		rc = fid_coords_load(&fc, db, err);
 	bc_snapshot_rows c;
@@ -271,11 +331,16 @@ static int select_snapshot(bc_snapshot *sn, bc_db *db, const bc_shift_options *o
 			r.art = str[r.art_id];
 			r.ref = str[r.ref_id];
 			r.name = NULL;
+			if (rank && !(r.name = rank_name(&rn, t, i))) {
+				rc = oom(err);
+				break;
+			}
 			rc = emit_row(rh, &r, fn, ctx, err);
 		}
 	}
 	if (rc == BC_OK && more < 0)
 		rc = more;
+	rank_namer_free(&rn);
 	free(f);
 	free(fc.fid);
 	free(fc.lon);
@@ -284,9 +349,14 @@ static int select_snapshot(bc_snapshot *sn, bc_db *db, const bc_shift_options *o
 }
 
 /* The text columns the selection needs from the snapshot. */
-static unsigned snapshot_want(const bc_shift_options *o)
+static unsigned snapshot_want(const bc_shift_options *o, const char *rank)
 {
 	unsigned w = 0;
+	if (rank) {
+		int k = rank_kind(rank);
+		w |= k == RANK_FAMILY ? BC_SNAP_BIT(BC_SNAP_FAMILY) : k == RANK_ORDER ? BC_SNAP_BIT(BC_SNAP_ORDER)
+			: k == RANK_SPECIES ? BC_SNAP_BIT(BC_SNAP_NAME) : BC_SNAP_BIT(BC_SNAP_NAME) | BC_SNAP_BIT(BC_SNAP_GENUS);
+	}
 	if (o->group)
 		w |= BC_SNAP_BIT(BC_SNAP_GROUP);
 	if (o->taxon)
@@ -307,11 +377,11 @@ int bc_shift__select(bc_db *db, const bc_shift_options *o, const char *rank, bc_
 		return oom(err);
 	sha256_init(&rh->h);
 	rh->n = 0;
-	/* Without a rank, from the column snapshot when there is one. */
+	/* From the column snapshot when there is one. */
 	bc_snapshot *sn = NULL;
-	int rc = rank ? BC_OK : bc_snapshot__load(&sn, db, snapshot_want(o), err);
+	int rc = bc_snapshot__load(&sn, db, snapshot_want(o, rank), err);
 	if (rc == BC_OK && sn) {
-		rc = select_snapshot(sn, db, o, fn, ctx, out, rh, err);
+		rc = select_snapshot(sn, db, o, rank, fn, ctx, out, rh, err);
 		bc_snapshot__free(sn);
 		if (rc == BC_OK)
 			hash_hex(rh, out->data_sha256);

@@ -49,6 +49,22 @@ same_as_table snapshot_nothing_left --taxon Nonesuchia
 same_as_table snapshot_split_zones --split 100 --span split --bins epoch
 same_as_table snapshot_json --format json --span all
 
+# ranges reads the same copy, with the name at its rank.
+ranges_as_table() {
+	name=$1; shift
+	$BC ranges "$DB" "$@" >"$T/with.csv" 2>"$T/with.err"; a=$?
+	BATHYCHRON_SNAPSHOT=off $BC ranges "$DB" "$@" >"$T/without.csv" 2>"$T/without.err"; b=$?
+	if [ "$a" = "$b" ] && [ "$a" = 0 ] && cmp -s "$T/with.csv" "$T/without.csv" && cmp -s "$T/with.err" "$T/without.err"; then
+		ok "$name"
+	else
+		fail "$name" "exit $a/$b; $(diff "$T/with.csv" "$T/without.csv" | head -c 400) $(head -c 200 "$T/with.err")"
+	fi
+}
+ranges_as_table snapshot_ranges_genus
+ranges_as_table snapshot_ranges_species --rank species
+ranges_as_table snapshot_ranges_family --rank family --group stalked
+ranges_as_table snapshot_ranges_order --rank order --region -10,30,30,60
+
 # Every change to the table empties the copy; the next shift sees it.
 [ "$(parts)" = 16 ] || $BC shift "$DB" >/dev/null 2>&1
 sqlite3 "$DB" "UPDATE occurrences SET min_depth_m = 900, max_depth_m = 950 WHERE occurrence_pk = 3"
@@ -63,6 +79,12 @@ sqlite3 "$DB" "INSERT INTO occurrences(occurrence_pk, batch_id, line, scientific
  VALUES (7, 1, 9999, 'Gapfill us', 20, 19, 'numeric', 't', 1500, 1600)"
 [ "$(parts)" = 0 ] && ok snapshot_emptied_by_insert || fail snapshot_emptied_by_insert "parts: $(parts)"
 same_as_table snapshot_after_insert
+ranges_as_table snapshot_ranges_after_insert
+sqlite3 "$DB" "UPDATE occurrences SET genus = '  ', scientific_name = '  Spaced  name ' WHERE occurrence_pk = 11;
+ UPDATE occurrences SET genus = '', scientific_name = 'Lonely ' WHERE occurrence_pk = 12;
+ UPDATE occurrences SET genus = ' Padded', scientific_name = 'X y' WHERE occurrence_pk = 13"
+$BC shift "$DB" >/dev/null 2>&1
+ranges_as_table snapshot_ranges_odd_spacing
 $BC shift "$DB" >/dev/null 2>&1
 # REPLACE deletes without delete triggers (recursive_triggers is off); the insert trigger still fires
 sqlite3 "$DB" "INSERT OR REPLACE INTO occurrences(occurrence_pk, batch_id, line, scientific_name, older_ma, younger_ma, age_status, timescale, min_depth_m, max_depth_m)
