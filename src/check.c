@@ -104,18 +104,18 @@ static const char sql_conflicts[] =
 	"FROM occurrences o JOIN import_batches b ON b.batch_id = o.batch_id WHERE o.age_conflict <> 0 ORDER BY o.occurrence_pk";
 
 /* Same taxon, locality, resolved age and reference: one row per group,
- * placed at its first occurrence, listing where the others are. */
+ * placed at its first occurrence, listing where all of them are (in
+ * occurrence order). One pass with window functions: no index needed. */
 static const char sql_duplicates[] =
-	"WITH g AS (SELECT scientific_name, locality_id, older_ma, younger_ma, reference_key, count(*) AS n, "
-	"  min(occurrence_pk) AS first FROM occurrences GROUP BY scientific_name, locality_id, older_ma, younger_ma, reference_key "
-	"  HAVING count(*) > 1) "
-	"SELECT 'duplicate', o.batch_id, b.file, o.line, o.scientific_name, "
-	"  g.n || ' occurrences with the same taxon, locality, age and reference: ' || "
-	"  (SELECT group_concat(bb.file || ':' || oo.line, ', ') FROM occurrences oo JOIN import_batches bb ON bb.batch_id = oo.batch_id "
-	"   WHERE oo.scientific_name = g.scientific_name AND oo.locality_id IS g.locality_id AND oo.older_ma = g.older_ma "
-	"   AND oo.younger_ma = g.younger_ma AND oo.reference_key = g.reference_key) "
-	"FROM g JOIN occurrences o ON o.occurrence_pk = g.first JOIN import_batches b ON b.batch_id = o.batch_id "
-	"ORDER BY g.first";
+	"WITH d AS (SELECT o.occurrence_pk AS pk, o.batch_id, b.file, o.line, o.scientific_name, "
+	"  count(*) OVER w AS n, min(o.occurrence_pk) OVER w AS first, "
+	"  group_concat(b.file || ':' || o.line, ', ') OVER (w ORDER BY o.occurrence_pk "
+	"   ROWS BETWEEN UNBOUNDED PRECEDING AND UNBOUNDED FOLLOWING) AS places "
+	"  FROM occurrences o JOIN import_batches b ON b.batch_id = o.batch_id "
+	"  WINDOW w AS (PARTITION BY o.scientific_name, o.locality_id, o.older_ma, o.younger_ma, o.reference_key)) "
+	"SELECT 'duplicate', batch_id, file, line, scientific_name, "
+	"  n || ' occurrences with the same taxon, locality, age and reference: ' || places "
+	"FROM d WHERE n > 1 AND pk = first ORDER BY first";
 
 static const char sql_no_coords[] =
 	"SELECT 'no_coordinates', '', '', '', '', "

@@ -32,6 +32,7 @@ done
 contains check_unlinked_key "$T/out" "$(printf 'unlinked_reference\t3\tmixed.csv\t15\tNobody2020\t')"
 contains check_age_conflict_line "$T/out" "$(printf 'age_conflict\t3\tmixed.csv\t14\tM13\tage conflict: numbers 100-95 Ma lie outside Campanian')"
 contains check_locality_distance "$T/out" "Quarry Vell, Norland"
+contains check_duplicate_detail "$T/out" "$(printf 'duplicate\t3\tmixed.csv\t2\tFictocrinus alpha\t2 occurrences with the same taxon, locality, age and reference: mixed.csv:2, mixed.csv:19')"
 
 expect_status 1 check_json $BC check "$T/db" --format json
 python3 -c 'import json,sys; d=json.load(open(sys.argv[1])); assert any(r["problem"]=="duplicate" for r in d)' "$T/out" \

@@ -115,3 +115,17 @@ if command -v cs2cs >/dev/null; then
 else
 	fail import_utm_cs2cs_available "cs2cs not installed (proj-bin)"
 fi
+
+# An index a user made on occurrences survives a load large enough for the
+# importer to drop and rebuild the indexes around it (more rows than are
+# stored, over 100,000 expected), and is consistent afterwards.
+$BC init "$T/idx.gpkg" >/dev/null
+sqlite3 "$T/idx.gpkg" "CREATE INDEX my_by_reference ON occurrences(reference_key)"
+/usr/bin/python3 "$TOP/tests/bench/gen_occurrences.py" 110000 "$T/gen.csv" 7 >/dev/null 2>&1
+expect_status 0 import_large_with_user_index $BC import "$T/idx.gpkg" "$T/gen.csv"
+idx=$(sqlite3 "$T/idx.gpkg" "SELECT sql FROM sqlite_master WHERE name = 'my_by_reference'")
+[ "$idx" = "CREATE INDEX my_by_reference ON occurrences(reference_key)" ] && ok import_user_index_kept || fail import_user_index_kept "$idx"
+r=$(sqlite3 "$T/idx.gpkg" "PRAGMA integrity_check")
+[ "$r" = ok ] && ok import_user_index_consistent || fail import_user_index_consistent "$r"
+n=$(sqlite3 "$T/idx.gpkg" "SELECT count(*) FROM occurrences INDEXED BY my_by_reference WHERE reference_key >= ''")
+[ "$n" = 110000 ] && ok import_user_index_complete || fail import_user_index_complete "$n rows through the index"
