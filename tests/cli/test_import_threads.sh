@@ -1,6 +1,6 @@
 #!/bin/sh
 # test_import_threads.sh - a CSV import reads and checks rows on a second
-# thread and stores them on the first (src/import.c, "two threads"). The
+# thread and stores them on the first (src/import_queue.c). The
 # result must not depend on it: the same file imported with
 # BATHYCHRON_IMPORT_THREADS=1 (one thread) gives the same stored rows,
 # quarantine entries (in the same order), messages and summary.
