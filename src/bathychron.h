@@ -246,7 +246,7 @@ int bc_chart_load_file(bc_chart **out, const char *path, const char *name, bc_er
 /* == end of chart loading section == */
 
 /* ------------------------------------------------------------------ */
-/* Age resolution (age.c, text.c)                                      */
+/* Age resolution (age.c, age_parse.c, age_number.c, age_alias.c, text.c) */
 /* ------------------------------------------------------------------ */
 
 /* == age resolution section == */
@@ -321,7 +321,7 @@ int bc_age_resolve_pair(bc_resolver *r, const char *earliest, const char *latest
 /* == end of age resolution section == */
 
 /* ------------------------------------------------------------------ */
-/* Ingest (csv.c, colmap.c, depth.c, bib.c, import.c, check.c, export.c) */
+/* Ingest (csv.c, colmap.c, depth.c, bib.c, import.c, import_row.c, import_queue.c, check.c, export.c) */
 /* ------------------------------------------------------------------ */
 
 /* == ingest section == */
@@ -448,7 +448,7 @@ int bc_export_dwca(bc_db *db, const char *path, long long *n_rows, bc_err *err);
 /* == end of dwca section == */
 
 /* ------------------------------------------------------------------ */
-/* Coordinates and localities (geo.c)                                  */
+/* Coordinates and localities (geo.c, locality.c)                      */
 /* ------------------------------------------------------------------ */
 
 /* == geo section == */
@@ -506,7 +506,7 @@ int bc_coverage_occurrences(bc_coverage *out, bc_db *db, const int64_t *pks, siz
 /* == end of geo section == */
 
 /* ------------------------------------------------------------------ */
-/* Shift tables (shift.c, stats.c, output.c)                           */
+/* Shift tables (shift.c, shift_select.c, shift_out.c, snapshot.c, stats.c, output.c) */
 /* ------------------------------------------------------------------ */
 
 /* == shift section == */
