@@ -1,6 +1,7 @@
 /*
  * plot.h - private geometry of the shift figure, so unit tests can find
- * the panels and the timescale bar in a rendered image.
+ * the panels and the timescale bar in a rendered image. The drawing
+ * internals the figure files share are in plot_draw.h (it includes cairo.h).
  */
 #ifndef BC_PLOT_H
 #define BC_PLOT_H
