@@ -1055,7 +1055,7 @@ int bc_encounter_plot(const bc_encounter_report *r, const char *path, double wid
 /* == end of injuries and encounter section == */
 
 /* ------------------------------------------------------------------ */
-/* Figures (plot.c)                                                    */
+/* Figures (plot.c, plot_shift.c, plot_ranges.c, encplot.c)          */
 /* ------------------------------------------------------------------ */
 
 /* == plot section == */
