@@ -401,21 +401,21 @@ int bc_age_resolve_pair(bc_resolver *r, const char *earliest, const char *latest
 		out->status = BC_AGE_UNKNOWN;
 		out->older_ma = out->younger_ma = NAN;
 		if (a.status == BC_AGE_UNKNOWN)
-			bc_age__note_add(out->note, sizeof out->note, "earliest: %s", a.note);
+			bc__note_add(out->note, sizeof out->note, "earliest: %s", a.note);
 		if (b.status == BC_AGE_UNKNOWN)
-			bc_age__note_add(out->note, sizeof out->note, "latest: %s", b.note);
+			bc__note_add(out->note, sizeof out->note, "latest: %s", b.note);
 		return BC_OK;
 	}
 	char note[512] = "";
 	if (a.note[0])
-		bc_age__note_add(note, sizeof note, "earliest: %s", a.note);
+		bc__note_add(note, sizeof note, "earliest: %s", a.note);
 	if (b.note[0])
-		bc_age__note_add(note, sizeof note, "latest: %s", b.note);
+		bc__note_add(note, sizeof note, "latest: %s", b.note);
 	bc_age *old = &a, *young = &b;
 	if (a.older_ma + a.younger_ma < b.older_ma + b.younger_ma) {
 		old = &b;
 		young = &a;
-		bc_age__note_add(note, sizeof note, "earliest is younger than latest; put in order");
+		bc__note_add(note, sizeof note, "earliest is younger than latest; put in order");
 	}
 	out->older_ma = old->older_ma > young->older_ma ? old->older_ma : young->older_ma;
 	out->younger_ma = young->younger_ma < old->younger_ma ? young->younger_ma : old->younger_ma;

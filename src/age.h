@@ -74,12 +74,6 @@ void bc_age__cache_clear(bc_resolver *r);
 
 /* age_parse.c */
 
-/** Appends "; " and a formatted part to a note, silently stopping when full. */
-void bc_age__note_add(char *note, size_t cap, const char *fmt, ...)
-#if defined(__GNUC__)
-	__attribute__((format(printf, 3, 4)))
-#endif
-	;
 /** The finest chart interval holding `ma` at an older (1) or younger (0) end, or -1. */
 int bc_age__finest_at(const bc_resolver *r, double ma, int older_end);
 /** Resolves an alias target ("Upper Cretaceous", "A|B" alternatives) in the chart, without aliases. */

@@ -132,7 +132,7 @@ int bc_age__resolve_numbers(const bc_resolver *r, const char *s, span *sp, char 
 		return -1;
 	if (isnan(u1) && isnan(u2)) {
 		u1 = u2 = 1;
-		bc_age__note_add(note, cap, "no unit given: Ma assumed");
+		bc__note_add(note, cap, "no unit given: Ma assumed");
 	} else if (isnan(u1)) {
 		u1 = u2;
 		n1 = n2;
@@ -141,7 +141,7 @@ int bc_age__resolve_numbers(const bc_resolver *r, const char *s, span *sp, char 
 		n2 = n1;
 	}
 	if ((n1 && strcmp(n1, "Ma") != 0) || (n2 && strcmp(n2, "Ma") != 0))
-		bc_age__note_add(note, cap, "converted from %s to Ma", n1 && strcmp(n1, "Ma") != 0 ? n1 : n2);
+		bc__note_add(note, cap, "converted from %s to Ma", n1 && strcmp(n1, "Ma") != 0 ? n1 : n2);
 	double older, younger;
 	if (kind == 0) {
 		older = younger = v1 * u1;
@@ -150,17 +150,17 @@ int bc_age__resolve_numbers(const bc_resolver *r, const char *s, span *sp, char 
 		younger = (v1 - e) * u2;
 		if (younger < 0)
 			younger = 0;
-		bc_age__note_add(note, cap, "central value %g with stated error %g", v1 * u2, e * u2);
+		bc__note_add(note, cap, "central value %g with stated error %g", v1 * u2, e * u2);
 	} else {
 		double a = v1 * u1, b = v2 * u2;
 		older = a > b ? a : b;
 		younger = a > b ? b : a;
 		if (a < b)
-			bc_age__note_add(note, cap, "written younger end first; put in order");
+			bc__note_add(note, cap, "written younger end first; put in order");
 	}
 	double limit = r->max_ma > 0 ? r->max_ma : 4600;
 	if (older > limit) {
-		bc_age__note_add(note, cap, "%g Ma is older than the chart (%g Ma)", older, limit);
+		bc__note_add(note, cap, "%g Ma is older than the chart (%g Ma)", older, limit);
 		return -2;
 	}
 	sp->older = older;

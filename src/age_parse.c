@@ -101,21 +101,6 @@ typedef struct work {
 	char note[512];
 } work;
 
-void bc_age__note_add(char *note, size_t cap, const char *fmt, ...)
-{
-	size_t n = strlen(note);
-	if (n + 3 >= cap)
-		return;
-	if (n) {
-		memcpy(note + n, "; ", 3);
-		n += 2;
-	}
-	va_list ap;
-	va_start(ap, fmt);
-	vsnprintf(note + n, cap - n, fmt, ap);
-	va_end(ap);
-}
-
 static span span_of(const bc_resolver *r, int iv)
 {
 	const bc_interval *x = bc_chart_interval(r->chart, (size_t)iv);
@@ -186,9 +171,9 @@ static int lookup_key(const bc_resolver *r, const char *key, size_t n, int use_a
 			const bc_interval *f = bc_chart_interval(r->chart, (size_t)a->sp.from);
 			const bc_interval *t = bc_chart_interval(r->chart, (size_t)a->sp.to);
 			if (a->sp.from == a->sp.to)
-				bc_age__note_add(w->note, sizeof w->note, "alias '%s' = %s: %s", a->text, f->name, a->note);
+				bc__note_add(w->note, sizeof w->note, "alias '%s' = %s: %s", a->text, f->name, a->note);
 			else
-				bc_age__note_add(w->note, sizeof w->note, "alias '%s' = %s to %s: %s", a->text, f->name, t->name, a->note);
+				bc__note_add(w->note, sizeof w->note, "alias '%s' = %s to %s: %s", a->text, f->name, t->name, a->note);
 		}
 		return 1;
 	}
@@ -205,7 +190,7 @@ static int lookup_key(const bc_resolver *r, const char *key, size_t n, int use_a
 	}
 	*sp = span_of(r, *v);
 	if (w)
-		bc_age__note_add(w->note, sizeof w->note, "'%s' matched %s by its stem (language suffix rule)", word,
+		bc__note_add(w->note, sizeof w->note, "'%s' matched %s by its stem (language suffix rule)", word,
 			bc_chart_interval(r->chart, (size_t)*v)->name);
 	return 1;
 }
@@ -273,7 +258,7 @@ static void apply_qual(const bc_resolver *r, span *sp, int q, work *w, int neste
 	sp->from = bc_age__finest_at(r, sp->older, 1);
 	sp->to = bc_age__finest_at(r, sp->younger, 0);
 	w->kind = BC_AGE_QUALIFIED;
-	bc_age__note_add(w->note, sizeof w->note, "%s = %s of %s (convention: %s)", qual_word_name(q), how[q], what,
+	bc__note_add(w->note, sizeof w->note, "%s = %s of %s (convention: %s)", qual_word_name(q), how[q], what,
 		q <= Q_LATE ? "equal thirds" : "basal/uppermost = first/last tenth");
 }
 
@@ -308,7 +293,7 @@ static int lookup_words(const bc_resolver *r, const char **ws, const size_t *wl,
 	int qtime = (ql == 5 && memcmp(qw, "early", 5) == 0) || (ql == 4 && memcmp(qw, "late", 4) == 0);
 	int ctime = strncmp(key, "early ", 6) == 0 || strncmp(key, "late ", 5) == 0;
 	if (qtime != ctime)
-		bc_age__note_add(w->note, sizeof w->note, "%s = the chart's %s (Early/Late are the time terms for Lower/Upper)",
+		bc__note_add(w->note, sizeof w->note, "%s = the chart's %s (Early/Late are the time terms for Lower/Upper)",
 			qual_word_name(q), cname);
 	return 1;
 }
@@ -491,7 +476,7 @@ static void combine(const bc_resolver *r, span a, span b, span *out, char *note,
 		a = b;
 		b = t;
 		*reversed = 1;
-		bc_age__note_add(note, cap, "written younger end first; put in order");
+		bc__note_add(note, cap, "written younger end first; put in order");
 	}
 	out->older = a.older > b.older ? a.older : b.older;
 	out->younger = a.younger < b.younger ? a.younger : b.younger;
@@ -534,7 +519,7 @@ static int resolve_names(const bc_resolver *r, const char *s, span *sp, bc_age_s
 	if (!qual_range(s) && key_of_part(s, strlen(s), key, sizeof key) && resolve_term(r, key, sp, &w)) {
 		*status = w.kind;
 		if (w.note[0])
-			bc_age__note_add(note, cap, "%s", w.note);
+			bc__note_add(note, cap, "%s", w.note);
 		return 1;
 	}
 	size_t len = strlen(s);
@@ -551,14 +536,14 @@ static int resolve_names(const bc_resolver *r, const char *s, span *sp, bc_age_s
 				continue;
 			int rev;
 			if (wa.note[0])
-				bc_age__note_add(note, cap, "%s", wa.note);
+				bc__note_add(note, cap, "%s", wa.note);
 			if (wb.note[0])
-				bc_age__note_add(note, cap, "%s", wb.note);
+				bc__note_add(note, cap, "%s", wb.note);
 			combine(r, a, b, sp, note, cap, &rev);
 			*status = BC_AGE_RANGE;
 			if (age_sep[k].either) {
 				*either = 1;
-				bc_age__note_add(note, cap, "either of two ages; the span covers both");
+				bc__note_add(note, cap, "either of two ages; the span covers both");
 			}
 			return 1;
 		}
@@ -667,7 +652,7 @@ static void suggest(const bc_resolver *r, const char *key, char *note, size_t ca
 			suggest_consider(&sg, r->alias_v[r->aliases.vals[i]].text, d);
 	}
 	if (!sg.name[0]) {
-		bc_age__note_add(note, cap, "no chart name is close");
+		bc__note_add(note, cap, "no chart name is close");
 		return;
 	}
 	char list[400] = "";
@@ -675,7 +660,7 @@ static void suggest(const bc_resolver *r, const char *key, char *note, size_t ca
 		size_t n = strlen(list);
 		snprintf(list + n, sizeof list - n, "%s%s", k ? ", " : "", sg.name[k]);
 	}
-	bc_age__note_add(note, cap, "nearest names: %s", list);
+	bc__note_add(note, cap, "nearest names: %s", list);
 }
 
 /* ------------------------------------------------------------------ */
@@ -732,7 +717,7 @@ void bc_age__resolve_folded(const bc_resolver *r, const char *folded, bc_age *ou
 		s[k] = '\0';
 	}
 	if (uncertain)
-		bc_age__note_add(note, sizeof note, "uncertain: '?' in the text");
+		bc__note_add(note, sizeof note, "uncertain: '?' in the text");
 	char *p = s;
 	for (int again = 1; again;) {
 		again = 0;
@@ -740,7 +725,7 @@ void bc_age__resolve_folded(const bc_resolver *r, const char *folded, bc_age *ou
 			int n = starts_word(p, age_unsure[i]);
 			if (n) {
 				if (!uncertain || strcmp(age_unsure[i], "?") != 0)
-					bc_age__note_add(note, sizeof note, "uncertain: '%s'", age_unsure[i]);
+					bc__note_add(note, sizeof note, "uncertain: '%s'", age_unsure[i]);
 				uncertain = 1;
 				p = (char *)bc_age__skip_sp(p + n);
 				again = 1;
@@ -762,7 +747,7 @@ void bc_age__resolve_folded(const bc_resolver *r, const char *folded, bc_age *ou
 	for (size_t i = 0; i < sizeof lato / sizeof lato[0]; i++) {
 		size_t n = strlen(lato[i]);
 		if (plen > n && strcmp(p + plen - n, lato[i]) == 0) {
-			bc_age__note_add(note, sizeof note, "'%s' noted, not used", lato[i] + 1);
+			bc__note_add(note, sizeof note, "'%s' noted, not used", lato[i] + 1);
 			p[plen - n] = '\0';
 			break;
 		}
@@ -772,7 +757,7 @@ void bc_age__resolve_folded(const bc_resolver *r, const char *folded, bc_age *ou
 	span sp = {-1, -1, NAN, NAN};
 	if (!*p) {
 		out->status = BC_AGE_UNKNOWN;
-		bc_age__note_add(note, sizeof note, "no age in the text");
+		bc__note_add(note, sizeof note, "no age in the text");
 		goto finish;
 	}
 	int numbers = 0; /* 1: starts like a number but is not one we can read */
@@ -781,7 +766,7 @@ void bc_age__resolve_folded(const bc_resolver *r, const char *folded, bc_age *ou
 		if (rc == 1) {
 			out->status = BC_AGE_NUMERIC;
 			if (approx) {
-				bc_age__note_add(note, sizeof note, "approximate ('c.'/'ca.'/'~')");
+				bc__note_add(note, sizeof note, "approximate ('c.'/'ca.'/'~')");
 				uncertain = 1;
 			}
 			goto finish;
@@ -799,23 +784,23 @@ void bc_age__resolve_folded(const bc_resolver *r, const char *folded, bc_age *ou
 		if (either)
 			uncertain = 1;
 		if (approx) {
-			bc_age__note_add(note, sizeof note, "uncertain: 'c.'/'ca.'");
+			bc__note_add(note, sizeof note, "uncertain: 'c.'/'ca.'");
 			uncertain = 1;
 		}
 		goto finish;
 	}
 	out->status = BC_AGE_UNKNOWN;
 	if (numbers) {
-		bc_age__note_add(note, sizeof note, "could not read the numbers (expected e.g. '72 Ma', '83.6-72.1 Ma', '75 +/- 2 Ma')");
+		bc__note_add(note, sizeof note, "could not read the numbers (expected e.g. '72 Ma', '83.6-72.1 Ma', '75 +/- 2 Ma')");
 		goto finish;
 	}
 	{
 		char key[AGE_KEY_MAX];
 		if (key_of_part(p, strlen(p), key, sizeof key)) {
-			bc_age__note_add(note, sizeof note, "not recognised");
+			bc__note_add(note, sizeof note, "not recognised");
 			suggest(r, key, note, sizeof note);
 		} else {
-			bc_age__note_add(note, sizeof note, "not recognised");
+			bc__note_add(note, sizeof note, "not recognised");
 		}
 	}
 finish:

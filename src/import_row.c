@@ -224,24 +224,6 @@ static int age_cached(importer *im, const char *e, const char *l, bc_age *out)
 	return BC_OK;
 }
 
-static void append_note(char *note, size_t cap, const char *fmt, ...)
-#if defined(__GNUC__)
-	__attribute__((format(printf, 3, 4)))
-#endif
-	;
-static void append_note(char *note, size_t cap, const char *fmt, ...)
-{
-	size_t k = strlen(note);
-	if (k && k + 2 < cap) {
-		memcpy(note + k, "; ", 3);
-		k += 2;
-	}
-	va_list ap;
-	va_start(ap, fmt);
-	vsnprintf(note + k, cap - k, fmt, ap);
-	va_end(ap);
-}
-
 /* "Campanian" or "Campanian-Maastrichtian". */
 static void span_name(const bc_age *a, char *out, size_t cap)
 {
@@ -303,7 +285,7 @@ static int import_age(importer *im, occ *o)
 			char n1[300], n2[300];
 			span_name(&text, n1, sizeof n1);
 			span_name(&lv, n2, sizeof n2);
-			append_note(o->note, sizeof o->note, "age conflict: %s %s (%g-%g Ma) lies outside %s %s (%g-%g Ma)",
+			bc__note_add(o->note, sizeof o->note, "age conflict: %s %s (%g-%g Ma) lies outside %s %s (%g-%g Ma)",
 				finest == 0 ? "stage" : "series", n1, text.older_ma, text.younger_ma,
 				k == 1 ? "series" : "system", n2, lv.older_ma, lv.younger_ma);
 		}
@@ -343,7 +325,7 @@ static int import_age(importer *im, occ *o)
 				o->conflict = 1;
 				char n1[300];
 				span_name(&text, n1, sizeof n1);
-				append_note(o->note, sizeof o->note, "age conflict: numbers %g-%g Ma lie outside %s (%g-%g Ma) by more than %g Myr; the numbers are stored",
+				bc__note_add(o->note, sizeof o->note, "age conflict: numbers %g-%g Ma lie outside %s (%g-%g Ma) by more than %g Myr; the numbers are stored",
 					older, younger, n1, text.older_ma, text.younger_ma, tol);
 			}
 		} else {
@@ -360,7 +342,7 @@ static int import_age(importer *im, occ *o)
 		snprintf(tmp, sizeof tmp, "%s", o->note);
 		snprintf(o->note, sizeof o->note, "%s", o->age.note);
 		if (tmp[0])
-			append_note(o->note, sizeof o->note, "%s", tmp);
+			bc__note_add(o->note, sizeof o->note, "%s", tmp);
 	}
 	return BC_OK;
 }

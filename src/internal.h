@@ -42,6 +42,14 @@ int bc__buf_printf(bc_buf *b, const char *fmt, ...)
 int bc__buf_json_string(bc_buf *b, const char *s);
 void bc__buf_free(bc_buf *b);
 
+/** Appends "; " and a formatted part to the note in `note` (`cap` bytes),
+ * silently stopping when it is full (a part may be cut short). */
+void bc__note_add(char *note, size_t cap, const char *fmt, ...)
+#if defined(__GNUC__)
+	__attribute__((format(printf, 3, 4)))
+#endif
+	;
+
 /** SHA-256 of a byte string as 64 lowercase hex digits plus NUL. */
 void bc__sha256_hex(const void *data, size_t n, char out[65]);
 /** SHA-256 of a whole file. Returns 0, or BC_EIO with err filled. */

@@ -259,3 +259,18 @@ int bc__read_file(const char *path, char **out, size_t *len, bc_err *err)
 		*len = b.len;
 	return BC_OK;
 }
+
+void bc__note_add(char *note, size_t cap, const char *fmt, ...)
+{
+	size_t n = strlen(note);
+	if (n + 3 >= cap)
+		return;
+	if (n) {
+		memcpy(note + n, "; ", 3);
+		n += 2;
+	}
+	va_list ap;
+	va_start(ap, fmt);
+	vsnprintf(note + n, cap - n, fmt, ap);
+	va_end(ap);
+}
