@@ -427,7 +427,8 @@ int bc_export_csv(bc_db *db, FILE *out, long long *n_rows, bc_err *err);
 /* == end of ingest section == */
 
 /* ------------------------------------------------------------------ */
-/* Darwin Core Archives (dwca.c, dwca_write.c)                         */
+/* Darwin Core Archives (dwca.c, dwca_entries.c, dwca_meta.c,         */
+/* dwca_text.c, dwca_join.c, dwca_write.c)                             */
 /* ------------------------------------------------------------------ */
 
 /* == dwca section == */

@@ -1,8 +1,9 @@
 /*
  * dwca.h - Darwin Core Archives (private): read an archive (zip file or
  * unpacked folder) as a stream of records keyed by design.md column names,
- * and write one (dwca_write.c). Only dwca.c (and skos.c) include libxml2;
- * dwca_join.c joins the extensions.
+ * and write one (dwca_write.c). The reader: dwca.c (opening), dwca_entries.c
+ * (zip or folder entries, limits), dwca_meta.c (meta.xml), dwca_text.c (data
+ * files), dwca_join.c (extensions joined); they share dwca_impl.h.
  *
  * Reading. bc_dwca__open validates the whole archive before the first
  * record is returned, so a refused archive changes nothing:
