@@ -29,21 +29,7 @@ void bc_rng__seed(bc_rng *r, uint64_t seed)
 		r->s[i] = rng_splitmix64(&x);
 }
 
-static uint64_t rng_rotl(uint64_t x, int k) { return (x << k) | (x >> (64 - k)); }
-
-uint64_t bc_rng__next(bc_rng *r)
-{
-	uint64_t *s = r->s;
-	uint64_t result = rng_rotl(s[1] * 5, 7) * 9;
-	uint64_t t = s[1] << 17;
-	s[2] ^= s[0];
-	s[3] ^= s[1];
-	s[1] ^= s[2];
-	s[0] ^= s[3];
-	s[2] ^= t;
-	s[3] = rng_rotl(s[3], 45);
-	return result;
-}
+uint64_t bc_rng__next(bc_rng *r) { return bc_rng__step(r); }
 
 double bc_rng__uniform(bc_rng *r)
 {

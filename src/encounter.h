@@ -23,6 +23,24 @@ typedef struct bc_rng {
 } bc_rng;
 
 void bc_rng__seed(bc_rng *r, uint64_t seed);
+
+/** xoshiro256**'s step, inline for the draw loops that call it for every
+ * occurrence; bc_rng__next is the same as a function. */
+static inline uint64_t bc_rng__step(bc_rng *r)
+{
+	uint64_t *s = r->s;
+	uint64_t x = s[1] * 5;
+	uint64_t out = ((x << 7) | (x >> 57)) * 9;
+	uint64_t t = s[1] << 17;
+	s[2] ^= s[0];
+	s[3] ^= s[1];
+	s[1] ^= s[2];
+	s[0] ^= s[3];
+	s[2] ^= t;
+	s[3] = (s[3] << 45) | (s[3] >> 19);
+	return out;
+}
+
 uint64_t bc_rng__next(bc_rng *r);
 /** Uniform on [0, 1) with 53 random bits. */
 double bc_rng__uniform(bc_rng *r);

@@ -35,25 +35,8 @@ enum {
 /** Seeds `r` for draw `index` of `stream` (BC_RESAMPLE__STREAM_*). */
 void bc_resample__rng_init(bc_rng *r, uint64_t seed, uint64_t stream, uint64_t index);
 
-static inline uint64_t bc_resample__rotl(uint64_t x, int k) { return (x << k) | (x >> (64 - k)); }
-
-/** The next output: xoshiro256**'s step, the same as bc_rng__next in
- * encounter.c, inline here because the draw loops call it for every
- * occurrence; the unit test resample_stream_seeding_pinned checks that the
- * two give the same stream. */
-static inline uint64_t bc_resample__next(bc_rng *r)
-{
-	uint64_t *s = r->s;
-	uint64_t out = bc_resample__rotl(s[1] * 5, 7) * 9;
-	uint64_t t = s[1] << 17;
-	s[2] ^= s[0];
-	s[3] ^= s[1];
-	s[1] ^= s[2];
-	s[0] ^= s[3];
-	s[2] ^= t;
-	s[3] = bc_resample__rotl(s[3], 45);
-	return out;
-}
+/** The next output of the generator (encounter.h's inline step). */
+static inline uint64_t bc_resample__next(bc_rng *r) { return bc_rng__step(r); }
 
 /** Uniform on [0, 1) with 53 random bits (as bc_rng__uniform). */
 static inline double bc_resample__uniform(bc_rng *r) { return (double)(bc_resample__next(r) >> 11) * 0x1.0p-53; }

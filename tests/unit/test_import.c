@@ -3,6 +3,7 @@
  * batches, units, environments, ages, extra columns, export round trip.
  */
 #include "test.h"
+#include "test_sql.h"
 #include "db.h"
 
 #include <stdlib.h>
@@ -28,17 +29,6 @@ static bc_db *new_db(bc_err *err)
 	bc_db *db = NULL;
 	bc_db_create(&db, path, err);
 	return db;
-}
-
-static double q_double(bc_db *db, const char *sql)
-{
-	sqlite3_stmt *st = NULL;
-	double v = NAN;
-	if (sqlite3_prepare_v2(bc_db__sqlite(db), sql, -1, &st, NULL) == SQLITE_OK && sqlite3_step(st) == SQLITE_ROW &&
-		sqlite3_column_type(st, 0) != SQLITE_NULL)
-		v = sqlite3_column_double(st, 0);
-	sqlite3_finalize(st);
-	return v;
 }
 
 static const char *q_text(bc_db *db, const char *sql)
@@ -87,8 +77,8 @@ TEST(import_mixed_file_counts_add_up)
 	CHECK_INT(r.n_age_conflicts, 1);
 	CHECK_INT(m.n, 13);
 	CHECK(strncmp(m.first, "mixed.csv:3: earliestAgeOrLowestStage: unknown age 'Blorptian'", 62) == 0);
-	CHECK_NEAR(q_double(db, "SELECT count(*) FROM quarantine"), 13, 0);
-	CHECK_NEAR(q_double(db, "SELECT n_read + 0.0 * n_stored FROM import_batches"), 17, 0);
+	CHECK_NEAR(test_query_num(db, "SELECT count(*) FROM quarantine"), 13, 0);
+	CHECK_NEAR(test_query_num(db, "SELECT n_read + 0.0 * n_stored FROM import_batches"), 17, 0);
 	CHECK_STR(q_text(db, "SELECT json_extract(raw_row, '$.minimumPaleodepthInMeters') FROM quarantine WHERE line = 8"), "deep");
 	CHECK_STR(q_text(db, "SELECT field || ': ' || reason FROM quarantine WHERE line = 12"),
 		"row: 6 cells, but the header has 16 columns (a missing or extra comma, or a line break outside quotes?)");
@@ -110,8 +100,8 @@ TEST(import_same_content_refused_and_dry_run_writes_nothing)
 	CHECK_OK(bc_import_file(&r, db, f, &o, &err), &err);
 	CHECK_INT(r.n_stored, 1);
 	CHECK_INT(r.batch_id, 0);
-	CHECK_NEAR(q_double(db, "SELECT count(*) FROM import_batches"), 0, 0);
-	CHECK_NEAR(q_double(db, "SELECT count(*) FROM occurrences"), 0, 0);
+	CHECK_NEAR(test_query_num(db, "SELECT count(*) FROM import_batches"), 0, 0);
+	CHECK_NEAR(test_query_num(db, "SELECT count(*) FROM occurrences"), 0, 0);
 	o.dry_run = 0;
 	o.display_name = "a.csv";
 	CHECK_OK(bc_import_file(&r, db, f, &o, &err), &err);
@@ -121,7 +111,7 @@ TEST(import_same_content_refused_and_dry_run_writes_nothing)
 	snprintf(want, sizeof want, "a.csv: identical content was imported already as batch 1 on %s (from a.csv); nothing imported",
 		q_text(db, "SELECT started_at FROM import_batches"));
 	CHECK_STR(err.msg, want);
-	CHECK_NEAR(q_double(db, "SELECT count(*) FROM occurrences"), 1, 0);
+	CHECK_NEAR(test_query_num(db, "SELECT count(*) FROM occurrences"), 1, 0);
 	bc_db_close(db);
 }
 
@@ -141,8 +131,8 @@ TEST(import_whole_file_problems)
 	CHECK_STR(err.msg, "x.csv:1: header: no scientificName column among 'Taxon', 'Stage' (wrong delimiter, or headers that need --map?)");
 	CHECK_INT(bc_import_file(&r, db, write_file("l.csv", "scientificName,locality\nA,B\nC,K\xf6ln\n"), &o, &err), BC_EINVALID);
 	CHECK_STR(err.msg, "x.csv:3: encoding: not UTF-8 (looks like Latin-1/Windows-1252); save the file as UTF-8");
-	CHECK_NEAR(q_double(db, "SELECT count(*) FROM import_batches"), 0, 0);
-	CHECK_NEAR(q_double(db, "SELECT count(*) FROM occurrences"), 0, 0);
+	CHECK_NEAR(test_query_num(db, "SELECT count(*) FROM import_batches"), 0, 0);
+	CHECK_NEAR(test_query_num(db, "SELECT count(*) FROM occurrences"), 0, 0);
 	bc_db_close(db);
 }
 
@@ -170,9 +160,9 @@ TEST(import_map_units_environments_and_defaults)
 	CHECK_OK(bc_import_file(&r, db, f, &o, &err), &err);
 	CHECK_INT(r.n_stored, 3);
 	CHECK_INT(r.n_quarantined, 1);
-	CHECK(q_double(db, "SELECT min_depth_m FROM occurrences WHERE scientific_name = 'A one'") == 100 * 0.3048);
-	CHECK_NEAR(q_double(db, "SELECT min_depth_m FROM occurrences WHERE scientific_name = 'A one'"), 30.48, 1e-12);
-	CHECK_NEAR(q_double(db, "SELECT max_depth_m FROM occurrences WHERE scientific_name = 'A two'"), 60.96, 1e-12);
+	CHECK(test_query_num(db, "SELECT min_depth_m FROM occurrences WHERE scientific_name = 'A one'") == 100 * 0.3048);
+	CHECK_NEAR(test_query_num(db, "SELECT min_depth_m FROM occurrences WHERE scientific_name = 'A one'"), 30.48, 1e-12);
+	CHECK_NEAR(test_query_num(db, "SELECT max_depth_m FROM occurrences WHERE scientific_name = 'A two'"), 60.96, 1e-12);
 	CHECK_STR(q_text(db, "SELECT depth_source || ' ' || environment || ' ' || min_depth_m || '-' || max_depth_m FROM occurrences WHERE scientific_name = 'A three'"),
 		"environment upper bathyal 200.0-600.0");
 	CHECK_STR(q_text(db, "SELECT taxon_group || ' ' || extra FROM occurrences WHERE scientific_name = 'A one'"), "Crinoidea {\"Lab note\":\"kept\"}");
@@ -183,9 +173,9 @@ TEST(import_map_units_environments_and_defaults)
 	o.environments = env;
 	CHECK_OK(bc_import_file(&r, db, f2, &o, &err), &err);
 	CHECK_INT(r.n_stored, 1);
-	CHECK_NEAR(q_double(db, "SELECT max_depth_m FROM occurrences WHERE scientific_name = 'B one'"), 18.288, 1e-12);
-	CHECK_NEAR(q_double(db, "SELECT min_depth_m FROM occurrences WHERE scientific_name = 'B one'"), 18.288, 1e-12);
-	CHECK_NEAR(q_double(db, "SELECT count(*) FROM vocabularies WHERE kind = 'environments'"), 2, 0);
+	CHECK_NEAR(test_query_num(db, "SELECT max_depth_m FROM occurrences WHERE scientific_name = 'B one'"), 18.288, 1e-12);
+	CHECK_NEAR(test_query_num(db, "SELECT min_depth_m FROM occurrences WHERE scientific_name = 'B one'"), 18.288, 1e-12);
+	CHECK_NEAR(test_query_num(db, "SELECT count(*) FROM vocabularies WHERE kind = 'environments'"), 2, 0);
 	bc_db_close(db);
 }
 
@@ -216,13 +206,13 @@ TEST(import_age_numbers_names_and_conflicts)
 	CHECK_OK(bc_import_file(&r, db, f, NULL, &err), &err);
 	CHECK_INT(r.n_stored, 5);
 	CHECK_STR(q_text(db, "SELECT age_status || ' ' || age_conflict || ' ' || age_from FROM occurrences WHERE scientific_name = 'inside'"), "numeric 0 Campanian");
-	CHECK_NEAR(q_double(db, "SELECT older_ma FROM occurrences WHERE scientific_name = 'inside'"), older - 1, 1e-9);
-	CHECK_NEAR(q_double(db, "SELECT age_conflict FROM occurrences WHERE scientific_name = 'within tolerance'"), 0, 0);
-	CHECK_NEAR(q_double(db, "SELECT age_conflict FROM occurrences WHERE scientific_name = 'outside'"), 1, 0);
-	CHECK_NEAR(q_double(db, "SELECT older_ma FROM occurrences WHERE scientific_name = 'outside'"), older + 2, 1e-9);
+	CHECK_NEAR(test_query_num(db, "SELECT older_ma FROM occurrences WHERE scientific_name = 'inside'"), older - 1, 1e-9);
+	CHECK_NEAR(test_query_num(db, "SELECT age_conflict FROM occurrences WHERE scientific_name = 'within tolerance'"), 0, 0);
+	CHECK_NEAR(test_query_num(db, "SELECT age_conflict FROM occurrences WHERE scientific_name = 'outside'"), 1, 0);
+	CHECK_NEAR(test_query_num(db, "SELECT older_ma FROM occurrences WHERE scientific_name = 'outside'"), older + 2, 1e-9);
 	CHECK_STR(q_text(db, "SELECT older_ma || ' ' || younger_ma || ' ' || age_status FROM occurrences WHERE scientific_name = 'point'"), "80.0 80.0 numeric");
-	CHECK_NEAR(q_double(db, "SELECT age_conflict FROM occurrences WHERE scientific_name = 'stage vs system'"), 1, 0);
-	CHECK_NEAR(q_double(db, "SELECT older_ma FROM occurrences WHERE scientific_name = 'stage vs system'"), older, 1e-9);
+	CHECK_NEAR(test_query_num(db, "SELECT age_conflict FROM occurrences WHERE scientific_name = 'stage vs system'"), 1, 0);
+	CHECK_NEAR(test_query_num(db, "SELECT older_ma FROM occurrences WHERE scientific_name = 'stage vs system'"), older, 1e-9);
 	CHECK_INT(r.n_age_conflicts, 2);
 	bc_db_close(db);
 }
@@ -292,8 +282,8 @@ TEST(import_verbatim_coordinates)
 	CHECK_OK(bc_import_file(&r, db, f, &o, &err), &err);
 	CHECK_INT(r.n_stored, 1);
 	CHECK_INT(r.n_quarantined, 3);
-	CHECK_NEAR(q_double(db, "SELECT latitude FROM localities WHERE name = 'Site DMS'"), 50.5, 1e-9);
-	CHECK_NEAR(q_double(db, "SELECT longitude FROM localities WHERE name = 'Site DMS'"), -0.5, 1e-9);
+	CHECK_NEAR(test_query_num(db, "SELECT latitude FROM localities WHERE name = 'Site DMS'"), 50.5, 1e-9);
+	CHECK_NEAR(test_query_num(db, "SELECT longitude FROM localities WHERE name = 'Site DMS'"), -0.5, 1e-9);
 	CHECK_STR(q_text(db, "SELECT verbatim_srs FROM localities WHERE name = 'Site DMS'"), "EPSG:4326");
 	CHECK_STR(q_text(db, "SELECT field FROM quarantine WHERE line = 3"), "verbatimCoordinates");
 	CHECK_STR(q_text(db, "SELECT field FROM quarantine WHERE line = 4"), "verbatimSRS");
@@ -332,7 +322,7 @@ TEST(import_survives_each_allocation_failure)
 			CHECK_MSG(rc == BC_ENOMEM || rc == BC_EDB || rc == BC_ERROR, "allocation %ld: %d %s", k, rc, err.msg);
 			nomem++;
 		}
-		CHECK_NEAR(q_double(db, "SELECT count(*) FROM import_batches"), 0, 0);
+		CHECK_NEAR(test_query_num(db, "SELECT count(*) FROM import_batches"), 0, 0);
 	}
 	CHECK(nomem > 10);
 	CHECK(ok > 0);

@@ -3,6 +3,7 @@
  * batches, durations) and the grouped encounter report built on them.
  */
 #include "test.h"
+#include "test_sql.h"
 #include "db.h"
 
 #include <stdlib.h>
@@ -20,17 +21,6 @@ static const char *write_file(const char *dir, const char *name, const char *tex
 	fputs(text, f);
 	fclose(f);
 	return p;
-}
-
-static double query_num(bc_db *db, const char *sql)
-{
-	sqlite3_stmt *st = NULL;
-	double v = NAN;
-	if (sqlite3_prepare_v2(bc_db__sqlite(db), sql, -1, &st, NULL) == SQLITE_OK && sqlite3_step(st) == SQLITE_ROW &&
-	    sqlite3_column_type(st, 0) != SQLITE_NULL)
-		v = sqlite3_column_double(st, 0);
-	sqlite3_finalize(st);
-	return v;
 }
 
 static char query_buf[2048];
@@ -93,10 +83,10 @@ TEST(injuries_import_validates_and_quarantines)
 	CHECK_INT(pr.n, 8);
 	CHECK_INT(res.n_individuals, 50 + 40 + 1 + 1);
 	CHECK_INT(res.n_regenerating, 10 + 4 + 1 + 0);
-	CHECK_INT(query_num(db, "SELECT count(*) FROM import_batches WHERE kind = 'injuries' AND n_read = 12 AND n_stored = 4 AND n_quarantined = 8"), 1);
-	CHECK_INT(query_num(db, "SELECT count(*) FROM injury_samples"), 4);
+	CHECK_INT(test_query_num(db, "SELECT count(*) FROM import_batches WHERE kind = 'injuries' AND n_read = 12 AND n_stored = 4 AND n_quarantined = 8"), 1);
+	CHECK_INT(test_query_num(db, "SELECT count(*) FROM injury_samples"), 4);
 	/* Quarantine rows carry file, line, field, reason and the raw row. */
-	CHECK_INT(query_num(db, "SELECT count(*) FROM quarantine"), 8);
+	CHECK_INT(test_query_num(db, "SELECT count(*) FROM quarantine"), 8);
 	CHECK_STR(query_text(db, "SELECT field || ': ' || reason FROM quarantine WHERE line = 5"),
 		  "maximumDepthInMeters: maximum depth 40 m is shallower than the minimum 50 m");
 	CHECK_STR(query_text(db, "SELECT field FROM quarantine WHERE line = 6"), "individualsRegenerating");
@@ -109,20 +99,20 @@ TEST(injuries_import_validates_and_quarantines)
 	CHECK_STR(query_text(db, "SELECT json_extract(raw_row, '$.locality') FROM quarantine WHERE line = 12"), "Site J");
 	CHECK(strstr(pr.last, "s.csv:12: individualsRegenerating: 'x' is not a whole number") != NULL);
 	/* Stored values: single depth, duration from length / rate, one individual, extra columns. */
-	CHECK_NEAR(query_num(db, "SELECT max_depth_m FROM injury_samples WHERE site = 'Site B'"), 300, 0);
-	CHECK_NEAR(query_num(db, "SELECT duration_min_days FROM injury_samples WHERE site = 'Site B'"), 80, 1e-12);
-	CHECK_NEAR(query_num(db, "SELECT duration_max_days FROM injury_samples WHERE site = 'Site B'"), 200, 1e-12);
+	CHECK_NEAR(test_query_num(db, "SELECT max_depth_m FROM injury_samples WHERE site = 'Site B'"), 300, 0);
+	CHECK_NEAR(test_query_num(db, "SELECT duration_min_days FROM injury_samples WHERE site = 'Site B'"), 80, 1e-12);
+	CHECK_NEAR(test_query_num(db, "SELECT duration_max_days FROM injury_samples WHERE site = 'Site B'"), 200, 1e-12);
 	CHECK_STR(query_text(db, "SELECT duration_source FROM injury_samples WHERE site = 'Site B'"), "length/rate");
 	CHECK_STR(query_text(db, "SELECT record_kind || individuals_examined || individuals_regenerating FROM injury_samples WHERE site = 'Site C'"), "individual11");
 	CHECK_STR(query_text(db, "SELECT age_status || older_ma FROM injury_samples WHERE site = 'Site A'"), "recent0.0");
 	CHECK_STR(query_text(db, "SELECT json_extract(extra, '$.stationNote') FROM injury_samples WHERE site = 'Site A'"), "calm");
-	CHECK(isnan(query_num(db, "SELECT arms_examined FROM injury_samples WHERE site = 'Site B'")));
+	CHECK(isnan(test_query_num(db, "SELECT arms_examined FROM injury_samples WHERE site = 'Site B'")));
 
 	/* Identical content is refused and changes nothing. */
 	CHECK_INT(bc_injuries_import(&res, db, csv, &o, &err), BC_EEXISTS);
 	CHECK(strstr(err.msg, "already imported as batch 1") != NULL);
-	CHECK_INT(query_num(db, "SELECT count(*) FROM import_batches"), 1);
-	CHECK_INT(query_num(db, "SELECT count(*) FROM injury_samples"), 4);
+	CHECK_INT(test_query_num(db, "SELECT count(*) FROM import_batches"), 1);
+	CHECK_INT(test_query_num(db, "SELECT count(*) FROM injury_samples"), 4);
 	bc_db_close(db);
 }
 
@@ -145,9 +135,9 @@ TEST(injuries_import_dry_run_and_bad_files)
 	}
 	CHECK_INT(res.n_stored, 4);
 	CHECK_INT(res.batch_id, 0);
-	CHECK_INT(query_num(db, "SELECT count(*) FROM injury_samples"), 0);
-	CHECK_INT(query_num(db, "SELECT count(*) FROM import_batches"), 0);
-	CHECK_INT(query_num(db, "SELECT count(*) FROM quarantine"), 0);
+	CHECK_INT(test_query_num(db, "SELECT count(*) FROM injury_samples"), 0);
+	CHECK_INT(test_query_num(db, "SELECT count(*) FROM import_batches"), 0);
+	CHECK_INT(test_query_num(db, "SELECT count(*) FROM quarantine"), 0);
 
 	const char *nocol = write_file(dir, "n.csv", "locality,depth,scientificName,individualsExamined,individualsRegenerating,regenerationDays\nA,10,S t,1,0,5\n");
 	CHECK_INT(bc_injuries_import(&res, db, nocol, NULL, &err), BC_EINVALID);
@@ -155,7 +145,7 @@ TEST(injuries_import_dry_run_and_bad_files)
 	const char *twice = write_file(dir, "t.csv", "locality,site,depth,age,taxon,individualsExamined,individualsRegenerating,regenerationDays\n");
 	CHECK_INT(bc_injuries_import(&res, db, twice, NULL, &err), BC_EINVALID);
 	CHECK(strstr(err.msg, "'locality' and 'site' give the same thing") != NULL);
-	CHECK_INT(query_num(db, "SELECT count(*) FROM import_batches"), 0);
+	CHECK_INT(test_query_num(db, "SELECT count(*) FROM import_batches"), 0);
 	bc_db_close(db);
 }
 
@@ -271,7 +261,7 @@ TEST(injuries_allocation_failures)
 		bc__alloc_fail_after(0);
 		if (rc != BC_OK) {
 			failures++;
-			CHECK_INT(query_num(db, "SELECT count(*) FROM injury_samples"), 0);
+			CHECK_INT(test_query_num(db, "SELECT count(*) FROM injury_samples"), 0);
 		}
 		CHECK(rc2 == BC_OK || r == NULL);
 		bc_encounter_report_free(r);

@@ -3,6 +3,7 @@
  * kept and disagreements reported, extent, near-duplicates, coverage.
  */
 #include "test.h"
+#include "test_sql.h"
 #include "locality.h"
 #include "geo.h"
 
@@ -19,17 +20,6 @@ static bc_db *loc_db(const char *name)
 		return NULL;
 	}
 	return db;
-}
-
-static double q_double(bc_db *db, const char *sql)
-{
-	sqlite3_stmt *st = NULL;
-	double v = NAN;
-	if (sqlite3_prepare_v2(bc_db__sqlite(db), sql, -1, &st, NULL) == SQLITE_OK && sqlite3_step(st) == SQLITE_ROW &&
-	    sqlite3_column_type(st, 0) != SQLITE_NULL)
-		v = sqlite3_column_double(st, 0);
-	sqlite3_finalize(st);
-	return v;
 }
 
 static bc_locality_input loc_in(const char *name, const char *country, const char *formation, double lon, double lat, int64_t line)
@@ -57,9 +47,9 @@ TEST(locality_named_rows_share_one_record)
 	in = loc_in("", "Freedonia", "", NAN, NAN, 6);
 	rc = rc ? rc : bc_locality__get_or_create(lc, &in, &e, &err);
 	bc_locality__cache_free(lc);
-	int n = (int)q_double(db, "SELECT count(*) FROM localities");
-	double lon = q_double(db, "SELECT longitude FROM localities WHERE fid = 1");
-	int nform = (int)q_double(db, "SELECT count(*) FROM localities WHERE fid = 1 AND formation = 'Marl Fm' AND name = 'Kettle  Hollow'");
+	int n = (int)test_query_num(db, "SELECT count(*) FROM localities");
+	double lon = test_query_num(db, "SELECT longitude FROM localities WHERE fid = 1");
+	int nform = (int)test_query_num(db, "SELECT count(*) FROM localities WHERE fid = 1 AND formation = 'Marl Fm' AND name = 'Kettle  Hollow'");
 	bc_db_close(db);
 	CHECK_OK(rc, &err);
 	CHECK(a > 0 && a == b && a == d && c != a);
@@ -104,8 +94,8 @@ TEST(locality_keeps_first_coordinates_and_reports_disagreement)
 	bc_locality__cache_free(lc);
 	CHECK_OK(rc, &err);
 	CHECK(f1 == f2 && f2 == f3 && f3 == f4);
-	double kept = q_double(db, "SELECT longitude FROM localities");
-	int given = (int)q_double(db, "SELECT count(*) FROM locality_coordinates");
+	double kept = test_query_num(db, "SELECT longitude FROM localities");
+	int given = (int)test_query_num(db, "SELECT count(*) FROM locality_coordinates");
 	bc_locality_conflict c = {0};
 	rc = bc_locality__conflicts(db, 100.0, collect_conflict, &c, &err);
 	bc_db_close(db);
@@ -141,15 +131,15 @@ TEST(locality_layer_extent_and_geometry)
 	in = loc_in("D", "", "", 20, NAN, 5);
 	int half = bc_locality__get_or_create(lc, &in, &f, &err);
 	bc_locality__cache_free(lc);
-	double minx = q_double(db, "SELECT min_x FROM gpkg_contents WHERE table_name = 'localities'");
-	double maxx = q_double(db, "SELECT max_x FROM gpkg_contents WHERE table_name = 'localities'");
-	double miny = q_double(db, "SELECT min_y FROM gpkg_contents WHERE table_name = 'localities'");
-	double maxy = q_double(db, "SELECT max_y FROM gpkg_contents WHERE table_name = 'localities'");
-	int stamped = (int)q_double(db, "SELECT count(*) FROM gpkg_contents WHERE table_name = 'localities' AND last_change LIKE '____-__-__T__:__:__.___Z'");
+	double minx = test_query_num(db, "SELECT min_x FROM gpkg_contents WHERE table_name = 'localities'");
+	double maxx = test_query_num(db, "SELECT max_x FROM gpkg_contents WHERE table_name = 'localities'");
+	double miny = test_query_num(db, "SELECT min_y FROM gpkg_contents WHERE table_name = 'localities'");
+	double maxy = test_query_num(db, "SELECT max_y FROM gpkg_contents WHERE table_name = 'localities'");
+	int stamped = (int)test_query_num(db, "SELECT count(*) FROM gpkg_contents WHERE table_name = 'localities' AND last_change LIKE '____-__-__T__:__:__.___Z'");
 	/* geom of A is the check-values §9 blob for POINT(0.5 50.5) */
-	int blob_ok = (int)q_double(db, "SELECT hex(geom) = '47500001E61000000101000000000000000000E03F0000000000404940' FROM localities WHERE name = 'A'");
+	int blob_ok = (int)test_query_num(db, "SELECT hex(geom) = '47500001E61000000101000000000000000000E03F0000000000404940' FROM localities WHERE name = 'A'");
 	CHECK_OK(bc_locality__refresh_extent(db, &err), &err);
-	double minx2 = q_double(db, "SELECT min_x FROM gpkg_contents WHERE table_name = 'localities'");
+	double minx2 = test_query_num(db, "SELECT min_x FROM gpkg_contents WHERE table_name = 'localities'");
 	bc_db_close(db);
 	CHECK_OK(rc, &err);
 	CHECK_INT(bad, BC_EINVALID);

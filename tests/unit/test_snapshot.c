@@ -4,6 +4,7 @@
  * stored only outside a caller's transaction and refused once stale.
  */
 #include "test.h"
+#include "test_sql.h"
 #include "db.h"
 #include "snapshot.h"
 
@@ -39,16 +40,7 @@ static bc_db *filled_db(void)
 	return db;
 }
 
-static int stored_parts(bc_db *db)
-{
-	sqlite3_stmt *st = NULL;
-	int n = -1;
-	if (sqlite3_prepare_v2(bc_db__sqlite(db), "SELECT count(*) FROM occurrence_snapshot", -1, &st, NULL) == SQLITE_OK &&
-	    sqlite3_step(st) == SQLITE_ROW)
-		n = sqlite3_column_int(st, 0);
-	sqlite3_finalize(st);
-	return n;
-}
+static int stored_parts(bc_db *db) { return (int)test_query_num(db, "SELECT count(*) FROM occurrence_snapshot"); }
 
 static int same_num(double a, double b) { return (isnan(a) && isnan(b)) || a == b; }
 
